@@ -1,0 +1,33 @@
+#!/usr/bin/env bash
+# SPDX-License-Identifier: GPL-3.0-or-later
+# Installs the Debian packages mteplan needs to build and test, only those
+# that are missing. Sourced by build-aux/run and build-aux/test.
+
+MTEPLAN_DEB_PACKAGES=(
+  gcc meson ninja-build pkg-config gettext
+  libglib2.0-dev libglib2.0-bin libgtk-4-dev libgsl-dev libjson-glib-dev
+  libcairo2-dev libpango1.0-dev
+  xvfb xauth poppler-utils desktop-file-utils appstream
+  yelp-tools itstool fonts-dejavu-core dbus-x11 at-spi2-core
+  locales
+)
+
+mteplan_install_deps() {
+  local missing=() p
+  for p in "${MTEPLAN_DEB_PACKAGES[@]}" "$@"; do
+    if ! dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q 'install ok installed'; then
+      missing+=("$p")
+    fi
+  done
+  if [ ${#missing[@]} -eq 0 ]; then
+    return 0
+  fi
+  echo "Installing missing Debian packages: ${missing[*]}"
+  local sudo=""
+  if [ "$(id -u)" -ne 0 ]; then
+    sudo="sudo"
+  fi
+  export DEBIAN_FRONTEND=noninteractive
+  $sudo apt-get update -qq || return 1
+  $sudo apt-get install -y -qq --no-install-recommends "${missing[@]}" || return 1
+}

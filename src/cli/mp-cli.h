@@ -1,0 +1,47 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* mp-cli.h: shared pieces of the mteplan-cli subcommands. */
+#pragma once
+
+#include <glib.h>
+#include <json-glib/json-glib.h>
+
+G_BEGIN_DECLS
+
+enum
+{
+  MP_EXIT_OK = 0,
+  MP_EXIT_INFEASIBLE = 1,
+  MP_EXIT_BAD_INPUT = 2,
+};
+
+/* Prints "mteplan-cli: MESSAGE" on stderr and returns MP_EXIT_BAD_INPUT. */
+int mp_cli_fail (const char *format, ...) G_GNUC_PRINTF (1, 2);
+
+/* Parses a finite number for OPTION within [min, max]; on failure sets an
+ * error naming the option, the accepted range and what was found. */
+gboolean mp_cli_parse_double (const char *option,
+                              const char *text,
+                              double min,
+                              double max,
+                              double *out,
+                              GError **error);
+
+/* Writes text to PATH, or to stdout when PATH is "-". Atomic for files. */
+gboolean mp_cli_write_output (const char *path,
+                              const char *text,
+                              gsize length,
+                              GError **error);
+
+char *mp_cli_json_to_string (JsonNode *node);
+
+int mp_cli_model (int argc, char **argv);
+int mp_cli_bench (int argc, char **argv);
+int mp_cli_plan (int argc, char **argv);
+int mp_cli_fit (int argc, char **argv);
+int mp_cli_rehearse (int argc, char **argv);
+
+/* Bench sections added by later features: each appends figures to the
+ * builder (inside an open object) and prints a line when human is TRUE. */
+typedef void (*MpBenchSection) (JsonBuilder *builder, gboolean human);
+
+G_END_DECLS

@@ -1,0 +1,312 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* mp-physics.c: the threshold photoemission model and counting statistics.
+ *
+ * Yield: Fowler (1931), Phys. Rev. 38, 45; DuBridge (1933), Phys. Rev. 43,
+ * 727. Transverse-energy moments of a free-electron metal with conserved
+ * transverse momentum, as derived in ../shared/spec/physics.md. */
+#include "config.h"
+
+#include "mp-physics.h"
+#include "mp-constants.h"
+
+#include <math.h>
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_integration.h>
+#include <gsl/gsl_sf_fermi_dirac.h>
+
+/* Below this x the series F_j(x) = sum (-1)^(k+1) e^(kx) / k^(j+1) is exact
+ * to double precision with two terms; GSL is used above it. */
+#define MP_FD_SERIES_BELOW (-30.0)
+
+#define MP_HERMITE_NODES 48
+
+typedef struct
+{
+  double node[MP_HERMITE_NODES];
+  double log_weight[MP_HERMITE_NODES];
+} MpHermiteRule;
+
+static MpHermiteRule hermite_rule;
+
+static gpointer
+build_hermite_rule (gpointer data)
+{
+  gsl_integration_fixed_workspace *w;
+  const double *nodes, *weights;
+
+  /* Weight exp(-t^2) on the real line: a = 0, b = 1. */
+  w = gsl_integration_fixed_alloc (gsl_integration_fixed_hermite,
+                                   MP_HERMITE_NODES, 0.0, 1.0, 0.0, 0.0);
+  nodes = gsl_integration_fixed_nodes (w);
+  weights = gsl_integration_fixed_weights (w);
+  for (int i = 0; i < MP_HERMITE_NODES; i++)
+    {
+      hermite_rule.node[i] = nodes[i];
+      hermite_rule.log_weight[i] = log (weights[i]) - 0.5 * log (M_PI);
+    }
+  gsl_integration_fixed_free (w);
+  return NULL;
+}
+
+static gpointer
+init_once (gpointer data)
+{
+  /* GSL's default handler aborts the process on underflow. */
+  gsl_set_error_handler_off ();
+  build_hermite_rule (NULL);
+  return NULL;
+}
+
+void
+mp_core_init (void)
+{
+  static GOnce once = G_ONCE_INIT;
+
+  g_once (&once, init_once, NULL);
+}
+
+double
+mp_photon_energy_eV_from_wavelength_nm (double wavelength_nm)
+{
+  g_return_val_if_fail (wavelength_nm > 0.0, NAN);
+
+  return MP_HC_EV_NM / wavelength_nm;
+}
+
+double
+mp_wavelength_nm_from_photon_energy_eV (double photon_energy_eV)
+{
+  g_return_val_if_fail (photon_energy_eV > 0.0, NAN);
+
+  return MP_HC_EV_NM / photon_energy_eV;
+}
+
+double
+mp_thermal_energy_eV (double temperature_K)
+{
+  return MP_K_B_EV_PER_K * temperature_K;
+}
+
+double
+mp_schottky_lowering_eV (double field_MV_per_m)
+{
+  double field_V_per_m = field_MV_per_m * 1e6;
+
+  if (!(field_V_per_m > 0.0))
+    return 0.0;
+  /* sqrt(e F / (4 pi eps0)) in volts, i.e. eV per electron. */
+  return sqrt (MP_E_CHARGE_C * field_V_per_m / (4.0 * M_PI * MP_EPSILON0_F_PER_M));
+}
+
+double
+mp_effective_work_function_eV (double work_function_eV, double field_MV_per_m)
+{
+  return work_function_eV - mp_schottky_lowering_eV (field_MV_per_m);
+}
+
+static double
+log_fermi_dirac_series (int j, double x)
+{
+  double ex = exp (x);
+  double sum = -ex / pow (2.0, j + 1) + ex * ex / pow (3.0, j + 1);
+
+  return x + log1p (sum);
+}
+
+static int
+fermi_dirac_gsl (int j, double x, gsl_sf_result *r)
+{
+  switch (j)
+    {
+    case 0:
+      return gsl_sf_fermi_dirac_0_e (x, r);
+    case 1:
+      return gsl_sf_fermi_dirac_1_e (x, r);
+    case 2:
+      return gsl_sf_fermi_dirac_2_e (x, r);
+    default:
+      return gsl_sf_fermi_dirac_int_e (j, x, r);
+    }
+}
+
+double
+mp_log_fermi_dirac (int j, double x)
+{
+  gsl_sf_result r;
+
+  g_return_val_if_fail (j >= 0 && j <= 3, NAN);
+  g_return_val_if_fail (!isnan (x), NAN);
+
+  if (x < MP_FD_SERIES_BELOW)
+    return log_fermi_dirac_series (j, x);
+  if (fermi_dirac_gsl (j, x, &r) == GSL_SUCCESS && r.val > 0.0 && isfinite (r.val))
+    return log (r.val);
+  /* Far above the Fermi level: F_j(x) -> x^(j+1) / (j+1)!. */
+  return (j + 1) * log (x) - lgamma (j + 2.0);
+}
+
+double
+mp_fermi_dirac (int j, double x)
+{
+  return exp (mp_log_fermi_dirac (j, x));
+}
+
+void
+mp_emission_monochromatic (double excess_eV, double temperature_K, MpEmission *out)
+{
+  double kT, x, l1;
+
+  g_return_if_fail (out != NULL);
+  g_return_if_fail (temperature_K > 0.0);
+
+  kT = mp_thermal_energy_eV (temperature_K);
+  x = excess_eV / kT;
+  l1 = mp_log_fermi_dirac (1, x);
+  out->log_yield = 2.0 * log (kT) + l1;
+  out->mte_eV = kT * exp (mp_log_fermi_dirac (2, x) - l1);
+  out->eps2_eV2 = 2.0 * kT * kT * exp (mp_log_fermi_dirac (3, x) - l1);
+}
+
+void
+mp_emission_averaged (double excess_eV,
+                      double temperature_K,
+                      double bandwidth_eV,
+                      MpEmission *out)
+{
+  MpEmission at[MP_HERMITE_NODES];
+  double log_w[MP_HERMITE_NODES];
+  double top = -INFINITY, sum = 0.0, sum_mte = 0.0, sum_eps2 = 0.0;
+
+  g_return_if_fail (out != NULL);
+
+  if (!(bandwidth_eV > 0.0))
+    {
+      mp_emission_monochromatic (excess_eV, temperature_K, out);
+      return;
+    }
+  mp_core_init ();
+  /* <f> = 1/sqrt(pi) sum w_i f(dE + sqrt(2) sigma t_i), in log space so
+   * that yields of 1e-300 and below still average. */
+  for (int i = 0; i < MP_HERMITE_NODES; i++)
+    {
+      double e = excess_eV + M_SQRT2 * bandwidth_eV * hermite_rule.node[i];
+
+      mp_emission_monochromatic (e, temperature_K, &at[i]);
+      log_w[i] = hermite_rule.log_weight[i] + at[i].log_yield;
+      top = MAX (top, log_w[i]);
+    }
+  for (int i = 0; i < MP_HERMITE_NODES; i++)
+    {
+      double w = exp (log_w[i] - top);
+
+      sum += w;
+      sum_mte += w * at[i].mte_eV;
+      sum_eps2 += w * at[i].eps2_eV2;
+    }
+  out->log_yield = top + log (sum);
+  out->mte_eV = sum_mte / sum;
+  out->eps2_eV2 = sum_eps2 / sum;
+}
+
+double
+mp_yield_eV2 (const MpEmission *em)
+{
+  g_return_val_if_fail (em != NULL, NAN);
+
+  return exp (em->log_yield);
+}
+
+double
+mp_qe_from_reference (double qe_ref, const MpEmission *at_ref, const MpEmission *at_step)
+{
+  g_return_val_if_fail (at_ref != NULL && at_step != NULL, NAN);
+
+  return qe_ref * exp (at_step->log_yield - at_ref->log_yield);
+}
+
+double
+mp_per_electron_variance_eV2 (const MpEmission *em, double resolution_eV)
+{
+  double v;
+
+  g_return_val_if_fail (em != NULL, NAN);
+
+  v = em->eps2_eV2 - em->mte_eV * em->mte_eV;
+  return MAX (v, 0.0) + resolution_eV * resolution_eV;
+}
+
+double
+mp_background_weight_eV2 (double acceptance_eV, double mte_eV)
+{
+  return acceptance_eV * acceptance_eV / 3.0 - mte_eV * acceptance_eV + mte_eV * mte_eV;
+}
+
+double
+mp_variance_per_electron_eV2 (const MpEmission *em,
+                              double resolution_eV,
+                              double signal_rate_per_s,
+                              double background_rate_per_s,
+                              double acceptance_eV)
+{
+  double v = mp_per_electron_variance_eV2 (em, resolution_eV);
+
+  if (!(signal_rate_per_s > 0.0))
+    return INFINITY;
+  return v + background_rate_per_s / signal_rate_per_s
+             * mp_background_weight_eV2 (acceptance_eV, em->mte_eV);
+}
+
+double
+mp_statistical_sigma_eV (double variance_per_electron_eV2,
+                         double signal_rate_per_s,
+                         double dwell_s)
+{
+  if (!(signal_rate_per_s > 0.0) || !(dwell_s > 0.0))
+    return INFINITY;
+  return sqrt (variance_per_electron_eV2 / (signal_rate_per_s * dwell_s));
+}
+
+double
+mp_required_dwell_s (double variance_per_electron_eV2,
+                     double signal_rate_per_s,
+                     double target_sigma_eV,
+                     double systematic_eV)
+{
+  double share = target_sigma_eV * target_sigma_eV - systematic_eV * systematic_eV;
+
+  if (!(share > 0.0) || !(signal_rate_per_s > 0.0))
+    return INFINITY;
+  return variance_per_electron_eV2 / (signal_rate_per_s * share);
+}
+
+double
+mp_reached_sigma_eV (double variance_per_electron_eV2,
+                     double signal_rate_per_s,
+                     double dwell_s,
+                     double systematic_eV)
+{
+  double stat = mp_statistical_sigma_eV (variance_per_electron_eV2,
+                                         signal_rate_per_s, dwell_s);
+
+  return hypot (stat, systematic_eV);
+}
+
+static double
+boiloff_L_per_h_per_W (double density_kg_per_m3, double latent_J_per_g)
+{
+  double grams_per_h = 3600.0 / latent_J_per_g;
+
+  return grams_per_h / density_kg_per_m3; /* g / (kg/m^3) = L */
+}
+
+double
+mp_helium_boiloff_L_per_h_per_W (void)
+{
+  return boiloff_L_per_h_per_W (MP_HELIUM_DENSITY_KG_PER_M3, MP_HELIUM_LATENT_J_PER_G);
+}
+
+double
+mp_nitrogen_boiloff_L_per_h_per_W (void)
+{
+  return boiloff_L_per_h_per_W (MP_NITROGEN_DENSITY_KG_PER_M3, MP_NITROGEN_LATENT_J_PER_G);
+}
