@@ -165,6 +165,11 @@ const char *mp_cryogen_to_string (MpCryogen cryogen);
 const char *mp_over_budget_to_string (MpOverBudget policy);
 const char *mp_scan_order_to_string (MpScanOrder order);
 
+/* A plan with empty containers and every number 0 (the loader fills it). */
+MpPlan *mp_plan_new_empty (void);
+MpTuningRange *mp_tuning_range_new (const char *label, double switch_s);
+void mp_tuning_range_free (MpTuningRange *range);
+
 G_DEFINE_AUTOPTR_CLEANUP_FUNC (MpPlan, mp_plan_free)
 
 G_END_DECLS
