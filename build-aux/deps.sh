@@ -4,7 +4,7 @@
 # that are missing. Sourced by build-aux/run and build-aux/test.
 
 MTEPLAN_DEB_PACKAGES=(
-  gcc meson ninja-build pkg-config gettext
+  gcc meson ninja-build pkg-config gettext python3
   libglib2.0-dev libglib2.0-bin libgtk-4-dev libgsl-dev libjson-glib-dev
   libcairo2-dev libpango1.0-dev
   xvfb xauth poppler-utils desktop-file-utils appstream
