@@ -47,4 +47,27 @@ int mp_plot_hit_test (MpPlotKind kind,
                       double x,
                       double y);
 
+/* As mp_plot_hit_test, for a plot drawn with a style whose font size is
+ * not the default (the layout depends on it); style may be NULL. */
+int mp_plot_hit_test_full (MpPlotKind kind,
+                           const MpPlan *plan,
+                           const MpSchedule *schedule,
+                           const MpPlotStyle *style,
+                           double width,
+                           double height,
+                           double x,
+                           double y);
+
+/* As mp_plot_draw without the size check. */
+void mp_plot_draw_full (cairo_t *cr,
+                        MpPlotKind kind,
+                        const MpPlan *plan,
+                        const MpSchedule *schedule,
+                        const MpPlotStyle *style,
+                        double width,
+                        double height);
+
+/* "295 K", "4.2 K". */
+char *mp_plot_format_temperature (double temperature_K);
+
 G_END_DECLS
