@@ -1,0 +1,1297 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* mp-schedule.c: from a plan to a timed, budgeted scan.
+ *
+ * The numbers follow ../shared/spec/physics.md ("Counting and dwell time",
+ * "Time and cryogen"); the steps, the policies and the output follow
+ * ../shared/spec/plan-format.md. The work is done in passes over a list of
+ * candidate steps per temperature block:
+ *
+ *   1. generate the steps (QE sweep, coarse and fine grid), round them to
+ *      the laser's wavelength step, drop duplicates and steps outside the
+ *      tuning ranges;
+ *   2. predict each step once (emission, QE, signal, variance), which does
+ *      not depend on the target, so the policies below never recompute the
+ *      model;
+ *   3. set dwells from the targets (times a stretch factor);
+ *   4. apply the over-budget policy;
+ *   5. lay out the timeline of the kept steps, priorities and cut lists.
+ *
+ * Drop policy, the value of a step: a step is worth
+ *   value = w * min(1, (sigma_target / sigma_reached)^2)
+ * where w = 1 + 2 exp(-(dE / w_band)^2 / 2) weighs closeness to threshold
+ * (w_band = fine half-width + 2 sigma_phi, at least 3 kT), and the second
+ * factor is the share of the wanted information (1/sigma^2) it reaches.
+ * Its cost is cost = t / T_all + L / L_all, its hours and litres (hold
+ * during its retune and dwell, plus an equal share of its block's settle
+ * time and cool-down) relative to what the whole unbudgeted plan needs.
+ * Steps are left out in increasing value / cost until the rest fits. The
+ * order does not depend on the budgets, and the kept set is the complement
+ * of the shortest fitting prefix of that order, so more beam time or more
+ * cryogen never leaves out more steps (common practice, no source: a greedy
+ * knapsack by value density). */
+#include "config.h"
+
+#include "mp-schedule.h"
+
+#include "mp-constants.h"
+#include "mp-error.h"
+#include "mp-physics.h"
+
+#include <glib/gi18n.h>
+#include <math.h>
+#include <string.h>
+
+/* Largest number of candidate steps in one temperature block. */
+#define MP_SCHEDULE_MAX_STEPS_PER_BLOCK 200000
+/* Counts a QE sweep step aims for: 1/sqrt(1000) = 3 % on the QE. */
+#define MP_QE_SWEEP_COUNTS 1000.0
+/* A done point matches a step at the same temperature within this. */
+#define MP_DONE_TEMPERATURE_K 0.5
+/* Largest stretch factor tried before the policy gives up. */
+#define MP_STRETCH_MAX 1e6
+
+typedef struct
+{
+  MpStep s;
+  double variance_eV2;      /* V + (B/S) W_b per signal electron */
+  double base_target_eV;    /* target sigma before stretching (MTE steps) */
+  double weight;            /* closeness to threshold, 1..3 */
+  double rank;              /* value per cost: lower is left out first */
+  gboolean on_coarse_grid;
+  gboolean dropped;         /* left out by the policy */
+  const char *drop_reason;
+} MpWork;
+
+typedef struct
+{
+  const MpTemperatureBlock *tb;
+  GArray *work;             /* MpWork in scan order: QE sweep, then MTE */
+  gboolean started;         /* holds done steps: settle and cool-down paid */
+  gboolean dropped;         /* whole block left out */
+  double band_eV;           /* half-width of the near-threshold band */
+} MpBlockWork;
+
+typedef struct
+{
+  const MpPlan *plan;
+  const MpScheduleOptions *opts;
+  double phi_eV;
+  double phi_eff_eV;
+  MpEmission ref;
+  double f_rep_Hz;
+  double bandwidth_eV;
+  double systematic_eV;
+  double resolution_eV;
+  double acceptance_eV;
+  double level0_L;          /* liquid at the start of the (re-)plan */
+  double avail_h;
+  double avail_L;
+  double stretch;
+  gboolean feasible;
+  GPtrArray *blocks;        /* MpBlockWork* */
+  GArray *left_out;         /* MpLeftOut */
+  GPtrArray *warnings;      /* char* */
+  guint n_out_of_range;
+} MpPlanner;
+
+void
+mp_schedule_options_init (MpScheduleOptions *opts)
+{
+  g_return_if_fail (opts != NULL);
+
+  memset (opts, 0, sizeof *opts);
+  opts->elapsed_h = 0.0;
+  opts->cryogen_left_L = NAN;
+  opts->done = NULL;
+  opts->no_sensitivity = FALSE;
+}
+
+const char *
+mp_step_status_to_string (MpStepStatus status)
+{
+  switch (status)
+    {
+    case MP_STEP_OK:
+      return "ok";
+    case MP_STEP_SHORT:
+      return "short";
+    case MP_STEP_UNREACHABLE:
+      return "unreachable";
+    default:
+      return "unknown";
+    }
+}
+
+const char *
+mp_step_kind_to_string (MpStepKind kind)
+{
+  switch (kind)
+    {
+    case MP_STEP_KIND_MTE:
+      return "mte";
+    case MP_STEP_KIND_QE_SWEEP:
+      return "qe_sweep";
+    default:
+      return "unknown";
+    }
+}
+
+/* ---- planner state ---------------------------------------------------- */
+
+static void
+block_work_free (gpointer data)
+{
+  MpBlockWork *bw = data;
+
+  g_array_unref (bw->work);
+  g_free (bw);
+}
+
+static void
+left_out_clear (gpointer data)
+{
+  MpLeftOut *lo = data;
+
+  g_free (lo->reason);
+}
+
+static void
+planner_clear (MpPlanner *p)
+{
+  g_clear_pointer (&p->blocks, g_ptr_array_unref);
+  g_clear_pointer (&p->left_out, g_array_unref);
+  g_clear_pointer (&p->warnings, g_ptr_array_unref);
+}
+
+static void
+add_left_out (MpPlanner *p, double temperature_K, double photon_energy_eV,
+              double wavelength_nm, const char *reason)
+{
+  MpLeftOut lo = { temperature_K, photon_energy_eV, wavelength_nm, g_strdup (reason) };
+
+  g_array_append_val (p->left_out, lo);
+}
+
+static void
+add_warning (MpPlanner *p, const char *format, ...) G_GNUC_PRINTF (2, 3);
+
+static void
+add_warning (MpPlanner *p, const char *format, ...)
+{
+  va_list args;
+
+  va_start (args, format);
+  g_ptr_array_add (p->warnings, g_strdup_vprintf (format, args));
+  va_end (args);
+}
+
+/* ---- step generation -------------------------------------------------- */
+
+typedef struct
+{
+  double excess_eV;
+  gboolean coarse;
+} MpGridPoint;
+
+static int
+compare_grid_points (gconstpointer a, gconstpointer b)
+{
+  const MpGridPoint *ga = a, *gb = b;
+
+  if (ga->excess_eV < gb->excess_eV)
+    return -1;
+  if (ga->excess_eV > gb->excess_eV)
+    return 1;
+  return (int) gb->coarse - (int) ga->coarse;
+}
+
+static double
+near_threshold_band_eV (const MpPlan *plan, double temperature_K)
+{
+  double band = plan->scan.fine_halfwidth_eV + 2.0 * plan->cathode.work_function_sigma_eV;
+
+  return MAX (band, 3.0 * mp_thermal_energy_eV (temperature_K));
+}
+
+/* Excess energies of the MTE steps: the coarse grid over the scan range and
+ * the fine grid (anchored at threshold) over +-(fine half-width + 2 sigma_phi),
+ * clipped to the scan range, sorted, duplicates merged. */
+static GArray *
+make_excess_grid (const MpPlan *plan, GError **error)
+{
+  const MpScan *sc = &plan->scan;
+  GArray *grid = g_array_new (FALSE, FALSE, sizeof (MpGridPoint));
+  double lo = sc->excess_min_eV, hi = sc->excess_max_eV;
+  double tol = 1e-9 * MAX (sc->step_eV, 1e-6);
+  double n_coarse = sc->step_eV > 0.0 ? floor ((hi - lo) / sc->step_eV + 1e-9) + 1.0 : 1.0;
+  double band = sc->fine_halfwidth_eV + 2.0 * plan->cathode.work_function_sigma_eV;
+  double n_fine = 0.0;
+
+  if (sc->fine_step_eV > 0.0 && band > 0.0)
+    n_fine = 2.0 * floor (band / sc->fine_step_eV + 1e-9) + 1.0;
+  if (!(n_coarse + n_fine <= MP_SCHEDULE_MAX_STEPS_PER_BLOCK))
+    {
+      g_set_error (error, MP_ERROR, MP_ERROR_LIMIT,
+                   _("scan: the step sizes give %.0f steps per temperature, more than %d; "
+                     "use a larger scan.step_eV or scan.fine_step_eV"),
+                   n_coarse + n_fine, MP_SCHEDULE_MAX_STEPS_PER_BLOCK);
+      g_array_unref (grid);
+      return NULL;
+    }
+  for (long i = 0; i < (long) n_coarse; i++)
+    {
+      MpGridPoint g = { lo + i * sc->step_eV, TRUE };
+
+      g_array_append_val (grid, g);
+    }
+  if (n_fine > 0.0)
+    {
+      long k_max = (long) ((n_fine - 1.0) / 2.0);
+
+      for (long k = -k_max; k <= k_max; k++)
+        {
+          MpGridPoint g = { k * sc->fine_step_eV, FALSE };
+
+          if (g.excess_eV >= lo - tol && g.excess_eV <= hi + tol)
+            g_array_append_val (grid, g);
+        }
+    }
+  g_array_sort (grid, compare_grid_points);
+  /* Merge points closer than the tolerance (a fine point on the coarse
+   * grid); the coarse flag survives because it sorts first. */
+  {
+    guint out = 0;
+
+    for (guint i = 0; i < grid->len; i++)
+      {
+        MpGridPoint *g = &g_array_index (grid, MpGridPoint, i);
+
+        if (out > 0 && fabs (g->excess_eV - g_array_index (grid, MpGridPoint, out - 1).excess_eV) <= tol)
+          continue;
+        g_array_index (grid, MpGridPoint, out++) = *g;
+      }
+    g_array_set_size (grid, out);
+  }
+  return grid;
+}
+
+static char *
+describe_tuning_ranges (const MpLaser *laser)
+{
+  GString *s = g_string_new (NULL);
+
+  for (guint r = 0; laser->ranges != NULL && r < laser->ranges->len; r++)
+    {
+      const MpTuningRange *range = g_ptr_array_index (laser->ranges, r);
+      const MpTuningPoint *pt;
+      char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+
+      if (range->points == NULL || range->points->len < 2)
+        continue;
+      pt = (const MpTuningPoint *) range->points->data;
+      g_ascii_formatd (a, sizeof a, "%g", pt[0].wavelength_nm);
+      g_ascii_formatd (b, sizeof b, "%g", pt[range->points->len - 1].wavelength_nm);
+      g_string_append_printf (s, "%s%s-%s nm", s->len > 0 ? ", " : "", a, b);
+    }
+  return g_string_free (s, FALSE);
+}
+
+/* Rounds the photon energy phi_eff + excess to the wavelength grid.
+ * Returns the integer wavelength index (wavelength = k * step). */
+static gint64
+round_to_wavelength_step (const MpPlan *plan, double photon_energy_eV, double *wavelength_nm)
+{
+  double step = plan->laser.wavelength_step_nm;
+  double wl = mp_wavelength_nm_from_photon_energy_eV (photon_energy_eV);
+  gint64 k;
+
+  if (!(step > 0.0))
+    {
+      *wavelength_nm = wl;
+      return (gint64) llround (wl * 1e6);
+    }
+  k = (gint64) llround (wl / step);
+  *wavelength_nm = (double) k * step;
+  return k;
+}
+
+/* Predicts one step: everything of "Counting and dwell time" that does not
+ * depend on the target. Returns FALSE when the wavelength is outside every
+ * tuning range. */
+static gboolean
+predict_step (MpPlanner *p, MpWork *w, double temperature_K)
+{
+  const MpPlan *plan = p->plan;
+  double pulse_uJ, n_ph, mu_full, mu, mu_cap;
+  MpEmission em;
+  int range = 0;
+
+  if (!mp_laser_pulse_energy_uJ (&plan->laser, w->s.wavelength_nm, &pulse_uJ, &range))
+    return FALSE;
+  w->s.range_index = range;
+  mp_emission_averaged (w->s.excess_energy_eV, temperature_K, p->bandwidth_eV, &em);
+  w->s.qe = mp_qe_from_reference (plan->cathode.qe_ref, &p->ref, &em);
+  /* N_ph = U / (E e), U in joules. */
+  n_ph = pulse_uJ * 1e-6 / (w->s.photon_energy_eV * MP_E_CHARGE_C);
+  mu_full = w->s.qe * n_ph * plan->detector.efficiency;
+  mu_cap = MIN (plan->detector.max_electrons_per_pulse,
+                plan->detector.max_rate_per_s / p->f_rep_Hz);
+  mu = MIN (mu_full, mu_cap);
+  if (mu_full > 0.0 && isfinite (mu_full))
+    {
+      w->s.transmission = mu / mu_full;
+      w->s.optical_density = -log10 (w->s.transmission);
+      if (w->s.optical_density == 0.0)
+        w->s.optical_density = 0.0; /* no "-0" */
+    }
+  else
+    {
+      w->s.transmission = 1.0;
+      w->s.optical_density = 0.0;
+    }
+  w->s.signal_rate_per_s = mu * p->f_rep_Hz;
+  w->s.mte_meV = (em.mte_eV + plan->cathode.extra_mte_meV * 1e-3) * 1e3;
+  w->variance_eV2 = mp_variance_per_electron_eV2 (&em, p->resolution_eV,
+                                                  w->s.signal_rate_per_s,
+                                                  plan->detector.dark_rate_per_s,
+                                                  p->acceptance_eV);
+  if (w->s.kind == MP_STEP_KIND_MTE)
+    w->base_target_eV = MAX (plan->scan.target_mte_sigma_meV * 1e-3,
+                             plan->scan.target_mte_sigma_rel * w->s.mte_meV * 1e-3);
+  else
+    w->base_target_eV = NAN;
+  return TRUE;
+}
+
+static int
+compare_work_ascending (gconstpointer a, gconstpointer b)
+{
+  const MpWork *wa = a, *wb = b;
+
+  if (wa->s.photon_energy_eV < wb->s.photon_energy_eV)
+    return -1;
+  if (wa->s.photon_energy_eV > wb->s.photon_energy_eV)
+    return 1;
+  return 0;
+}
+
+static int
+compare_work_descending (gconstpointer a, gconstpointer b)
+{
+  return compare_work_ascending (b, a);
+}
+
+/* Turns excess energies into steps of one kind, in scan order. */
+static void
+add_steps (MpPlanner *p, MpBlockWork *bw, MpStepKind kind, const GArray *grid,
+           const char *out_of_range)
+{
+  const MpPlan *plan = p->plan;
+  double temperature_K = bw->tb->temperature_K;
+  GArray *steps = g_array_sized_new (FALSE, TRUE, sizeof (MpWork), grid->len);
+  gint64 last_k = G_MININT64;
+
+  /* Ascending excess is descending wavelength index: duplicates after
+   * rounding are neighbours. */
+  for (guint i = 0; i < grid->len; i++)
+    {
+      const MpGridPoint *g = &g_array_index (grid, MpGridPoint, i);
+      MpWork w;
+      gint64 k;
+
+      memset (&w, 0, sizeof w);
+      w.s.kind = kind;
+      w.s.temperature_K = temperature_K;
+      w.on_coarse_grid = g->coarse;
+      if (!(p->phi_eff_eV + g->excess_eV > 0.0))
+        continue;
+      k = round_to_wavelength_step (plan, p->phi_eff_eV + g->excess_eV, &w.s.wavelength_nm);
+      if (k == last_k)
+        {
+          if (g->coarse && steps->len > 0)
+            g_array_index (steps, MpWork, steps->len - 1).on_coarse_grid = TRUE;
+          continue;
+        }
+      last_k = k;
+      if (!(w.s.wavelength_nm > 0.0))
+        continue;
+      w.s.photon_energy_eV = mp_photon_energy_eV_from_wavelength_nm (w.s.wavelength_nm);
+      w.s.excess_energy_eV = w.s.photon_energy_eV - p->phi_eff_eV;
+      if (!predict_step (p, &w, temperature_K))
+        {
+          g_autofree char *reason =
+            g_strdup_printf (_("outside the laser's tuning range (%s)"), out_of_range);
+
+          add_left_out (p, temperature_K, w.s.photon_energy_eV, w.s.wavelength_nm, reason);
+          p->n_out_of_range++;
+          continue;
+        }
+      w.weight = 1.0 + 2.0 * exp (-0.5 * pow (w.s.excess_energy_eV / bw->band_eV, 2));
+      g_array_append_val (steps, w);
+    }
+  g_array_sort (steps, plan->scan.order == MP_SCAN_ASCENDING
+                       ? compare_work_ascending : compare_work_descending);
+  g_array_append_vals (bw->work, steps->data, steps->len);
+  g_array_unref (steps);
+}
+
+/* The QE sweep: evenly spread over +-(2 sigma_phi + 3 kT) around threshold. */
+static GArray *
+make_sweep_grid (const MpPlan *plan, double temperature_K)
+{
+  GArray *grid = g_array_new (FALSE, FALSE, sizeof (MpGridPoint));
+  int n = plan->scan.qe_sweep_points;
+  double half = 2.0 * plan->cathode.work_function_sigma_eV
+                + 3.0 * mp_thermal_energy_eV (temperature_K);
+
+  for (int i = 0; i < n; i++)
+    {
+      MpGridPoint g = { n == 1 ? 0.0 : -half + 2.0 * half * i / (n - 1), FALSE };
+
+      g_array_append_val (grid, g);
+    }
+  return grid;
+}
+
+static gboolean
+matches_done (const MpPlanner *p, const MpStep *s)
+{
+  const GArray *done = p->opts->done;
+  double step_nm = p->plan->laser.wavelength_step_nm;
+  /* Half a wavelength step, in energy: dE = E^2 / (hc) * dlambda / 2. */
+  double tol_eV = 0.5 * s->photon_energy_eV * s->photon_energy_eV / MP_HC_EV_NM
+                  * (step_nm > 0.0 ? step_nm : 1e-6);
+
+  for (guint i = 0; done != NULL && i < done->len; i++)
+    {
+      const MpDonePoint *d = &g_array_index (done, MpDonePoint, i);
+
+      if (fabs (d->temperature_K - s->temperature_K) <= MP_DONE_TEMPERATURE_K
+          && fabs (d->photon_energy_eV - s->photon_energy_eV) <= tol_eV * (1.0 + 1e-9))
+        return TRUE;
+    }
+  return FALSE;
+}
+
+static gboolean
+generate_steps (MpPlanner *p, GError **error)
+{
+  const MpPlan *plan = p->plan;
+  g_autoptr (GArray) grid = make_excess_grid (plan, error);
+  g_autofree char *ranges = NULL;
+
+  if (grid == NULL)
+    return FALSE;
+  ranges = describe_tuning_ranges (&plan->laser);
+  for (guint b = 0; b < plan->temperatures->len; b++)
+    {
+      MpBlockWork *bw = g_new0 (MpBlockWork, 1);
+
+      bw->tb = &g_array_index (plan->temperatures, MpTemperatureBlock, b);
+      bw->work = g_array_new (FALSE, TRUE, sizeof (MpWork));
+      bw->band_eV = near_threshold_band_eV (plan, bw->tb->temperature_K);
+      g_ptr_array_add (p->blocks, bw);
+      if (plan->scan.qe_sweep_points > 0)
+        {
+          g_autoptr (GArray) sweep = make_sweep_grid (plan, bw->tb->temperature_K);
+
+          add_steps (p, bw, MP_STEP_KIND_QE_SWEEP, sweep, ranges);
+        }
+      add_steps (p, bw, MP_STEP_KIND_MTE, grid, ranges);
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          MpWork *w = &g_array_index (bw->work, MpWork, i);
+
+          w->s.done = matches_done (p, &w->s);
+          bw->started |= w->s.done;
+        }
+    }
+  return TRUE;
+}
+
+/* ---- dwell from targets ------------------------------------------------ */
+
+static void
+set_dwell (MpPlanner *p, MpWork *w, double stretch)
+{
+  const MpScan *sc = &p->plan->scan;
+  double S = w->s.signal_rate_per_s;
+
+  if (w->s.kind == MP_STEP_KIND_QE_SWEEP)
+    {
+      double t_req = S > 0.0 ? MP_QE_SWEEP_COUNTS / S : INFINITY;
+
+      w->s.target_sigma_meV = NAN;
+      w->s.required_dwell_s = t_req;
+      if (sc->qe_sweep_dwell_s > 0.0)
+        w->s.dwell_s = sc->qe_sweep_dwell_s;
+      else
+        w->s.dwell_s = CLAMP (t_req, sc->min_dwell_s, sc->max_dwell_s);
+      w->s.status = !(S > 0.0) ? MP_STEP_UNREACHABLE
+                    : w->s.dwell_s < t_req * (1.0 - 1e-12) ? MP_STEP_SHORT : MP_STEP_OK;
+    }
+  else
+    {
+      double target = w->base_target_eV * stretch;
+      double t_req = mp_required_dwell_s (w->variance_eV2, S, target, p->systematic_eV);
+
+      w->s.target_sigma_meV = target * 1e3;
+      w->s.required_dwell_s = t_req;
+      if (!isfinite (t_req))
+        {
+          w->s.dwell_s = sc->max_dwell_s;
+          w->s.status = MP_STEP_UNREACHABLE;
+        }
+      else if (t_req > sc->max_dwell_s)
+        {
+          w->s.dwell_s = sc->max_dwell_s;
+          w->s.status = MP_STEP_SHORT;
+        }
+      else
+        {
+          w->s.dwell_s = MAX (t_req, sc->min_dwell_s);
+          w->s.status = MP_STEP_OK;
+        }
+    }
+  w->s.reached_sigma_meV = 1e3 * mp_reached_sigma_eV (w->variance_eV2, S, w->s.dwell_s,
+                                                      p->systematic_eV);
+}
+
+static void
+set_all_dwells (MpPlanner *p, double stretch)
+{
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+
+      for (guint i = 0; i < bw->work->len; i++)
+        set_dwell (p, &g_array_index (bw->work, MpWork, i), stretch);
+    }
+}
+
+/* ---- totals ------------------------------------------------------------ */
+
+static gboolean
+is_kept (const MpBlockWork *bw, const MpWork *w)
+{
+  return w->s.done || (!bw->dropped && !w->dropped);
+}
+
+static gboolean
+is_pending (const MpBlockWork *bw, const MpWork *w)
+{
+  return !w->s.done && !bw->dropped && !w->dropped;
+}
+
+static double
+switch_s (const MpPlan *plan, int range)
+{
+  const MpTuningRange *r = g_ptr_array_index (plan->laser.ranges, range);
+
+  return r->switch_s;
+}
+
+/* Hours and litres of the kept steps; the same walk as lay_out_timeline. */
+static void
+measure_totals (const MpPlanner *p, double *hours, double *litres)
+{
+  const MpPlan *plan = p->plan;
+  double total_h = 0.0, total_L = 0.0;
+  int prev_range = -1;
+
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      const MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      double block_s = 0.0, cool_L = 0.0;
+      gboolean any_pending = FALSE;
+
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          const MpWork *w = &g_array_index (bw->work, MpWork, i);
+
+          if (!is_pending (bw, w))
+            continue;
+          any_pending = TRUE;
+          if (prev_range >= 0 && w->s.range_index != prev_range)
+            block_s += switch_s (plan, w->s.range_index);
+          prev_range = w->s.range_index;
+          block_s += plan->laser.retune_s + w->s.dwell_s;
+        }
+      if (!any_pending)
+        continue;
+      if (!bw->started)
+        {
+          block_s += bw->tb->settle_min * 60.0;
+          cool_L = bw->tb->cooldown_L;
+        }
+      total_h += block_s / 3600.0;
+      total_L += cool_L + bw->tb->hold_L_per_h * block_s / 3600.0;
+    }
+  *hours = total_h;
+  *litres = total_L;
+}
+
+static gboolean
+fits (const MpPlanner *p)
+{
+  double h, L;
+
+  measure_totals (p, &h, &L);
+  return h <= p->avail_h && L <= p->avail_L;
+}
+
+/* ---- policies ---------------------------------------------------------- */
+
+static double
+information_share (const MpWork *w)
+{
+  double r;
+
+  if (w->s.kind == MP_STEP_KIND_QE_SWEEP)
+    return w->s.status == MP_STEP_UNREACHABLE ? 0.0 : 1.0;
+  if (!(w->s.signal_rate_per_s > 0.0) || !isfinite (w->s.reached_sigma_meV))
+    return 0.0;
+  r = w->s.target_sigma_meV / w->s.reached_sigma_meV;
+  return MIN (1.0, r * r);
+}
+
+/* Ranks pending steps by value per cost (see the top of the file). */
+static void
+rank_steps (MpPlanner *p)
+{
+  const MpPlan *plan = p->plan;
+  double all_h, all_L;
+
+  measure_totals (p, &all_h, &all_L);
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      int n_pending = 0;
+      double fixed_h, fixed_L;
+
+      for (guint i = 0; i < bw->work->len; i++)
+        n_pending += is_pending (bw, &g_array_index (bw->work, MpWork, i));
+      if (n_pending == 0)
+        continue;
+      fixed_h = bw->started ? 0.0 : bw->tb->settle_min / 60.0;
+      fixed_L = bw->started ? 0.0 : bw->tb->cooldown_L + bw->tb->hold_L_per_h * fixed_h;
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          MpWork *w = &g_array_index (bw->work, MpWork, i);
+          double t_h, L, cost, value;
+
+          if (!is_pending (bw, w))
+            continue;
+          t_h = (plan->laser.retune_s + w->s.dwell_s) / 3600.0;
+          L = bw->tb->hold_L_per_h * t_h + fixed_L / n_pending;
+          t_h += fixed_h / n_pending;
+          cost = (all_h > 0.0 ? t_h / all_h : 0.0) + (all_L > 0.0 ? L / all_L : 0.0);
+          value = (w->s.kind == MP_STEP_KIND_QE_SWEEP ? 1.5 : w->weight) * information_share (w);
+          w->rank = cost > 0.0 ? value / cost : G_MAXDOUBLE;
+        }
+    }
+}
+
+typedef struct
+{
+  MpWork *w;
+  guint block;
+  guint pos;
+} MpWorkRef;
+
+static int
+compare_refs_by_rank (gconstpointer a, gconstpointer b)
+{
+  const MpWorkRef *ra = a, *rb = b;
+
+  if (ra->w->rank < rb->w->rank)
+    return -1;
+  if (ra->w->rank > rb->w->rank)
+    return 1;
+  /* Ties: later blocks, then later steps, go first (deterministic). */
+  if (ra->block != rb->block)
+    return ra->block > rb->block ? -1 : 1;
+  return ra->pos > rb->pos ? -1 : (ra->pos < rb->pos ? 1 : 0);
+}
+
+static void
+set_dropped_prefix (GArray *order, guint k)
+{
+  for (guint i = 0; i < order->len; i++)
+    g_array_index (order, MpWorkRef, i).w->dropped = i < k;
+}
+
+static void
+apply_drop (MpPlanner *p)
+{
+  g_autoptr (GArray) order = g_array_new (FALSE, FALSE, sizeof (MpWorkRef));
+  guint lo, hi;
+  int n_blocks_dropped = 0;
+
+  rank_steps (p);
+  /* A block whose settle time or cool-down alone does not fit goes whole. */
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      double settle_h = bw->tb->settle_min / 60.0;
+
+      if (bw->started)
+        continue;
+      if (settle_h > p->avail_h
+          || bw->tb->cooldown_L + bw->tb->hold_L_per_h * settle_h > p->avail_L)
+        {
+          bw->dropped = TRUE;
+          n_blocks_dropped++;
+        }
+    }
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          MpWork *w = &g_array_index (bw->work, MpWork, i);
+          MpWorkRef ref = { w, b, i };
+
+          if (is_pending (bw, w))
+            g_array_append_val (order, ref);
+        }
+    }
+  g_array_sort (order, compare_refs_by_rank);
+
+  /* Shortest prefix of the order whose removal makes the rest fit; cost
+   * never rises as the prefix grows (a removed step never adds a range
+   * switch), so bisection finds it. */
+  lo = 0;
+  hi = order->len;
+  set_dropped_prefix (order, hi);
+  if (!fits (p))
+    {
+      p->feasible = FALSE;
+      set_dropped_prefix (order, 0);
+    }
+  else
+    {
+      while (lo < hi)
+        {
+          guint mid = lo + (hi - lo) / 2;
+
+          set_dropped_prefix (order, mid);
+          if (fits (p))
+            hi = mid;
+          else
+            lo = mid + 1;
+        }
+      set_dropped_prefix (order, lo);
+      if (lo > 0 && lo == order->len)
+        p->feasible = FALSE;
+    }
+  if (!p->feasible)
+    add_warning (p, _("Even leaving out every remaining step, the plan does not fit: "
+                      "%.3g h of beam time and %.3g L of cryogen are available"),
+                 p->avail_h, p->avail_L);
+  else if (lo > 0 || n_blocks_dropped > 0)
+    add_warning (p, _("Over budget: %u steps left out to fit %.3g h and %.3g L"),
+                 lo, p->avail_h, p->avail_L);
+  for (guint i = 0; i < order->len; i++)
+    {
+      MpWork *w = g_array_index (order, MpWorkRef, i).w;
+
+      if (w->dropped)
+        w->drop_reason = N_("over budget");
+    }
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+
+      if (!bw->dropped)
+        continue;
+      add_warning (p, _("The %g K block is left out: its settle time and cool-down alone "
+                        "do not fit"), bw->tb->temperature_K);
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          MpWork *w = &g_array_index (bw->work, MpWork, i);
+
+          if (!w->s.done)
+            w->drop_reason = N_("block cool-down does not fit");
+        }
+    }
+}
+
+static void
+apply_stretch (MpPlanner *p)
+{
+  double lo = 1.0, hi = 2.0;
+
+  set_all_dwells (p, MP_STRETCH_MAX);
+  if (!fits (p))
+    {
+      double h, L;
+
+      measure_totals (p, &h, &L);
+      p->feasible = FALSE;
+      set_all_dwells (p, 1.0);
+      add_warning (p, _("Even with every target loosened without limit, settle times, "
+                        "cool-downs, retunes and minimum dwells need %.3g h and %.3g L, "
+                        "but %.3g h and %.3g L are available"),
+                   h, L, p->avail_h, p->avail_L);
+      return;
+    }
+  set_all_dwells (p, hi);
+  while (!fits (p) && hi < MP_STRETCH_MAX)
+    {
+      lo = hi;
+      hi = MIN (hi * 2.0, MP_STRETCH_MAX);
+      set_all_dwells (p, hi);
+    }
+  /* Bisect to 1e-9 relative; hi always fits. */
+  for (int it = 0; it < 200 && hi - lo > 1e-9 * hi; it++)
+    {
+      double mid = 0.5 * (lo + hi);
+
+      set_all_dwells (p, mid);
+      if (fits (p))
+        hi = mid;
+      else
+        lo = mid;
+    }
+  p->stretch = hi;
+  set_all_dwells (p, hi);
+  add_warning (p, _("Over budget: every target loosened by a factor %.3f to fit %.3g h and %.3g L"),
+               hi, p->avail_h, p->avail_L);
+}
+
+static void
+apply_policy (MpPlanner *p)
+{
+  set_all_dwells (p, 1.0);
+  if (fits (p))
+    return;
+  if (p->plan->over_budget == MP_OVER_BUDGET_STRETCH)
+    apply_stretch (p);
+  else
+    apply_drop (p);
+}
+
+/* ---- the planner as a whole ------------------------------------------- */
+
+static gboolean
+run_planner (MpPlanner *p, const MpPlan *plan, const MpScheduleOptions *opts,
+             double work_function_eV, GError **error)
+{
+  double ref_excess;
+
+  memset (p, 0, sizeof *p);
+  p->plan = plan;
+  p->opts = opts;
+  p->phi_eV = work_function_eV;
+  p->phi_eff_eV = mp_effective_work_function_eV (work_function_eV, plan->cathode.field_MV_per_m);
+  p->f_rep_Hz = plan->laser.repetition_rate_kHz * 1e3;
+  p->bandwidth_eV = plan->laser.bandwidth_meV * 1e-3;
+  p->systematic_eV = plan->detector.systematic_meV * 1e-3;
+  p->resolution_eV = plan->detector.resolution_meV * 1e-3;
+  p->acceptance_eV = plan->detector.acceptance_meV * 1e-3;
+  p->level0_L = isnan (opts->cryogen_left_L) ? plan->cryostat.budget_L : opts->cryogen_left_L;
+  p->avail_h = plan->beam_time_h - opts->elapsed_h;
+  p->avail_L = p->level0_L - plan->cryostat.reserve_L;
+  p->stretch = 1.0;
+  p->feasible = TRUE;
+  p->blocks = g_ptr_array_new_with_free_func (block_work_free);
+  p->left_out = g_array_new (FALSE, FALSE, sizeof (MpLeftOut));
+  g_array_set_clear_func (p->left_out, left_out_clear);
+  p->warnings = g_ptr_array_new_with_free_func (g_free);
+
+  /* The reference point, with the same field and laser line. */
+  ref_excess = plan->cathode.qe_ref_photon_energy_eV - p->phi_eff_eV;
+  mp_emission_averaged (ref_excess, plan->cathode.qe_ref_temperature_K, p->bandwidth_eV, &p->ref);
+
+  if (p->avail_h < 0.0)
+    add_warning (p, _("The elapsed time %.3g h is more than the beam time %.3g h"),
+                 opts->elapsed_h, plan->beam_time_h);
+  if (p->avail_L < 0.0)
+    add_warning (p, _("The cryogen left, %.3g L, is below the reserve of %.3g L"),
+                 p->level0_L, plan->cryostat.reserve_L);
+  if (!generate_steps (p, error))
+    return FALSE;
+  apply_policy (p);
+  return TRUE;
+}
+
+/* ---- building the schedule -------------------------------------------- */
+
+static void
+mp_block_free (gpointer data)
+{
+  MpBlock *block = data;
+
+  g_clear_pointer (&block->steps, g_array_unref);
+  g_clear_pointer (&block->cut_list, g_array_unref);
+  g_free (block);
+}
+
+void
+mp_schedule_free (MpSchedule *schedule)
+{
+  if (schedule == NULL)
+    return;
+  g_free (schedule->plan_title);
+  g_clear_pointer (&schedule->blocks, g_ptr_array_unref);
+  g_clear_pointer (&schedule->left_out, g_array_unref);
+  g_clear_pointer (&schedule->warnings, g_ptr_array_unref);
+  g_free (schedule);
+}
+
+typedef struct
+{
+  guint pos;
+  int priority;
+  double rank;
+} MpCutRef;
+
+static int
+compare_cut_refs (gconstpointer a, gconstpointer b)
+{
+  const MpCutRef *ca = a, *cb = b;
+
+  if (ca->priority != cb->priority)
+    return ca->priority > cb->priority ? -1 : 1;
+  if (ca->rank != cb->rank)
+    return ca->rank < cb->rank ? -1 : 1;
+  return ca->pos > cb->pos ? -1 : (ca->pos < cb->pos ? 1 : 0);
+}
+
+/* Priority 1: QE sweep steps, the steps within the near-threshold band
+ * (2 sigma_phi + 2 kT, at least half a coarse step, so that the steps on
+ * either side of threshold are in it), the step nearest threshold and the two end
+ * anchors (highest and lowest excess). The others: the better half by
+ * value per cost 2, the rest 3. */
+static void
+set_priorities (const MpPlanner *p, const MpBlockWork *bw, MpBlock *block, GArray *ranks)
+{
+  guint n = block->steps->len;
+  int lo_i = -1, hi_i = -1, near_i = -1;
+  g_autoptr (GArray) rest = g_array_new (FALSE, FALSE, sizeof (MpCutRef));
+  double inner = MAX (2.0 * p->plan->cathode.work_function_sigma_eV
+                      + 2.0 * mp_thermal_energy_eV (bw->tb->temperature_K),
+                      0.5 * p->plan->scan.step_eV * (1.0 + 1e-9));
+
+  for (guint i = 0; i < n; i++)
+    {
+      MpStep *s = &g_array_index (block->steps, MpStep, i);
+
+      if (s->kind != MP_STEP_KIND_MTE)
+        continue;
+      if (lo_i < 0 || s->excess_energy_eV < g_array_index (block->steps, MpStep, lo_i).excess_energy_eV)
+        lo_i = i;
+      if (hi_i < 0 || s->excess_energy_eV > g_array_index (block->steps, MpStep, hi_i).excess_energy_eV)
+        hi_i = i;
+      if (near_i < 0 || fabs (s->excess_energy_eV)
+                        < fabs (g_array_index (block->steps, MpStep, near_i).excess_energy_eV))
+        near_i = i;
+    }
+  for (guint i = 0; i < n; i++)
+    {
+      MpStep *s = &g_array_index (block->steps, MpStep, i);
+
+      if (s->kind == MP_STEP_KIND_QE_SWEEP || (int) i == lo_i || (int) i == hi_i
+          || (int) i == near_i || fabs (s->excess_energy_eV) <= inner)
+        s->priority = 1;
+      else
+        {
+          MpCutRef c = { i, 3, g_array_index (ranks, double, i) };
+
+          g_array_append_val (rest, c);
+        }
+    }
+  /* Best value per cost first, to hand out priority 2 to the better half. */
+  g_array_sort (rest, compare_cut_refs);
+  for (guint j = 0; j < rest->len; j++)
+    {
+      MpCutRef *c = &g_array_index (rest, MpCutRef, j);
+      MpStep *s = &g_array_index (block->steps, MpStep, c->pos);
+
+      /* rest is sorted worst first: the last half is the better half. */
+      c->priority = s->priority = j < (rest->len + 1) / 2 ? 3 : 2;
+    }
+  g_array_sort (rest, compare_cut_refs);
+  for (guint j = 0; j < rest->len; j++)
+    {
+      const MpCutRef *c = &g_array_index (rest, MpCutRef, j);
+      MpStep *s = &g_array_index (block->steps, MpStep, c->pos);
+      int pos = (int) c->pos;
+
+      if (!s->done)
+        g_array_append_val (block->cut_list, pos);
+    }
+}
+
+/* Lays out the kept steps in time and cryogen; the same walk as
+ * measure_totals. */
+static void
+lay_out_timeline (const MpPlanner *p, MpSchedule *schedule)
+{
+  const MpPlan *plan = p->plan;
+  double clock_h = p->opts->elapsed_h;
+  double level_L = p->level0_L;
+  int prev_range = -1, index = 1;
+
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      const MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      MpBlock *block;
+      g_autoptr (GArray) ranks = NULL;
+      gboolean any_pending = FALSE, any_kept = FALSE;
+      double hold = bw->tb->hold_L_per_h;
+
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          const MpWork *w = &g_array_index (bw->work, MpWork, i);
+
+          any_kept |= is_kept (bw, w);
+          any_pending |= is_pending (bw, w);
+        }
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          const MpWork *w = &g_array_index (bw->work, MpWork, i);
+
+          if (!is_kept (bw, w))
+            add_left_out ((MpPlanner *) p, w->s.temperature_K, w->s.photon_energy_eV,
+                          w->s.wavelength_nm,
+                          _(w->drop_reason != NULL ? w->drop_reason : N_("over budget")));
+        }
+      if (!any_kept)
+        continue;
+      block = g_new0 (MpBlock, 1);
+      block->temperature_K = bw->tb->temperature_K;
+      block->steps = g_array_new (FALSE, FALSE, sizeof (MpStep));
+      block->cut_list = g_array_new (FALSE, FALSE, sizeof (int));
+      ranks = g_array_new (FALSE, FALSE, sizeof (double));
+      block->start_h = clock_h;
+      block->cryogen_start_L = level_L;
+      if (any_pending && !bw->started)
+        {
+          block->settle_h = bw->tb->settle_min / 60.0;
+          level_L -= bw->tb->cooldown_L + hold * block->settle_h;
+          clock_h += block->settle_h;
+        }
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          const MpWork *w = &g_array_index (bw->work, MpWork, i);
+          MpStep s;
+
+          if (!is_kept (bw, w))
+            continue;
+          s = w->s;
+          s.index = index++;
+          s.start_h = clock_h;
+          if (!s.done)
+            {
+              double t_s = plan->laser.retune_s + s.dwell_s;
+
+              if (prev_range >= 0 && s.range_index != prev_range)
+                t_s += switch_s (plan, s.range_index);
+              prev_range = s.range_index;
+              clock_h += t_s / 3600.0;
+              level_L -= hold * t_s / 3600.0;
+            }
+          s.end_h = clock_h;
+          s.cryogen_left_L = level_L;
+          g_array_append_val (block->steps, s);
+          g_array_append_val (ranks, w->rank);
+        }
+      block->end_h = clock_h;
+      block->cryogen_end_L = level_L;
+      block->cryogen_L = block->cryogen_start_L - block->cryogen_end_L;
+      set_priorities (p, bw, block, ranks);
+      g_ptr_array_add (schedule->blocks, block);
+    }
+  schedule->beam_time_h = clock_h - p->opts->elapsed_h;
+  schedule->cryogen_L = p->level0_L - level_L;
+}
+
+static void
+warn_about_steps (MpPlanner *p)
+{
+  const MpPlan *plan = p->plan;
+
+  if (p->n_out_of_range > 0)
+    add_warning (p, _("%u steps are outside the laser's tuning range and left out"),
+                 p->n_out_of_range);
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      int n_short = 0, n_floor = 0, n_dark = 0;
+
+      for (guint i = 0; i < bw->work->len; i++)
+        {
+          const MpWork *w = &g_array_index (bw->work, MpWork, i);
+
+          if (!is_pending (bw, w) || w->s.kind != MP_STEP_KIND_MTE)
+            continue;
+          if (w->s.status == MP_STEP_SHORT)
+            n_short++;
+          else if (w->s.status == MP_STEP_UNREACHABLE && w->s.signal_rate_per_s > 0.0)
+            n_floor++;
+          else if (w->s.status == MP_STEP_UNREACHABLE)
+            n_dark++;
+        }
+      if (n_short > 0)
+        add_warning (p, _("%g K: %d steps need more than the longest dwell (%g s) and fall "
+                          "short of their target"),
+                     bw->tb->temperature_K, n_short, plan->scan.max_dwell_s);
+      if (n_floor > 0)
+        add_warning (p, _("%g K: %d steps cannot reach their target at any dwell: the "
+                          "systematic floor of %g meV is above it"),
+                     bw->tb->temperature_K, n_floor, plan->detector.systematic_meV);
+      if (n_dark > 0)
+        add_warning (p, _("%g K: %d steps have no predicted signal"),
+                     bw->tb->temperature_K, n_dark);
+    }
+}
+
+static MpSchedule *
+schedule_from_planner (MpPlanner *p)
+{
+  MpSchedule *schedule = g_new0 (MpSchedule, 1);
+
+  schedule->plan_title = g_strdup (p->plan->title != NULL ? p->plan->title : "");
+  schedule->policy = p->plan->over_budget;
+  schedule->stretch_factor = p->stretch;
+  schedule->work_function_eV = p->phi_eV;
+  schedule->effective_work_function_eV = p->phi_eff_eV;
+  schedule->beam_time_available_h = p->avail_h;
+  schedule->cryogen_available_L = p->avail_L;
+  schedule->blocks = g_ptr_array_new_with_free_func (mp_block_free);
+  warn_about_steps (p);
+  lay_out_timeline (p, schedule);
+  schedule->feasible = p->feasible
+                       && schedule->beam_time_h <= p->avail_h
+                       && schedule->cryogen_L <= p->avail_L;
+  schedule->left_out = g_steal_pointer (&p->left_out);
+  schedule->warnings = g_steal_pointer (&p->warnings);
+  return schedule;
+}
+
+static void
+sensitivity_from_schedule (const MpSchedule *s, MpSensitivity *out)
+{
+  out->work_function_eV = s->work_function_eV;
+  out->beam_time_h = s->beam_time_h;
+  out->cryogen_L = s->cryogen_L;
+  out->n_short = mp_schedule_count_status (s, MP_STEP_SHORT);
+  out->n_unreachable = mp_schedule_count_status (s, MP_STEP_UNREACHABLE);
+  out->n_left_out = (int) s->left_out->len;
+  out->feasible = s->feasible;
+}
+
+static MpSchedule *
+compute_at (const MpPlan *plan, const MpScheduleOptions *opts,
+                        double work_function_eV, GError **error)
+{
+  MpPlanner p;
+  MpSchedule *schedule;
+
+  if (!run_planner (&p, plan, opts, work_function_eV, error))
+    {
+      planner_clear (&p);
+      return NULL;
+    }
+  schedule = schedule_from_planner (&p);
+  planner_clear (&p);
+  return schedule;
+}
+
+MpSchedule *
+mp_schedule_compute (const MpPlan *plan, const MpScheduleOptions *opts, GError **error)
+{
+  MpScheduleOptions defaults;
+  MpSchedule *schedule;
+
+  g_return_val_if_fail (plan != NULL, NULL);
+  g_return_val_if_fail (error == NULL || *error == NULL, NULL);
+
+  mp_core_init ();
+  if (opts == NULL)
+    {
+      mp_schedule_options_init (&defaults);
+      opts = &defaults;
+    }
+  if (!mp_plan_validate (plan, error))
+    return NULL;
+  if (plan->temperatures == NULL || plan->laser.ranges == NULL
+      || plan->laser.ranges->len == 0)
+    {
+      g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                   _("laser: expected at least one tuning range, found none"));
+      return NULL;
+    }
+  if (!isfinite (opts->elapsed_h) || opts->elapsed_h < 0.0)
+    {
+      g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                   _("elapsed time: expected a number >= 0 h, found %g"), opts->elapsed_h);
+      return NULL;
+    }
+  if (!isnan (opts->cryogen_left_L) && !(isfinite (opts->cryogen_left_L) && opts->cryogen_left_L >= 0.0))
+    {
+      g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                   _("cryogen left: expected a number >= 0 L, found %g"), opts->cryogen_left_L);
+      return NULL;
+    }
+
+  schedule = compute_at (plan, opts, plan->cathode.work_function_eV, error);
+  if (schedule == NULL || opts->no_sensitivity)
+    return schedule;
+
+  {
+    MpScheduleOptions sub = *opts;
+    double phi = plan->cathode.work_function_eV;
+    double sigma = plan->cathode.work_function_sigma_eV;
+    g_autoptr (MpSchedule) low = NULL;
+    g_autoptr (MpSchedule) high = NULL;
+
+    sub.no_sensitivity = TRUE;
+    low = compute_at (plan, &sub, phi - sigma, NULL);
+    high = compute_at (plan, &sub, phi + sigma, NULL);
+    if (low != NULL && high != NULL)
+      {
+        sensitivity_from_schedule (low, &schedule->sensitivity_low);
+        sensitivity_from_schedule (high, &schedule->sensitivity_high);
+        schedule->has_sensitivity = TRUE;
+      }
+  }
+  return schedule;
+}
+
+int
+mp_schedule_count_steps (const MpSchedule *schedule)
+{
+  int n = 0;
+
+  g_return_val_if_fail (schedule != NULL, 0);
+
+  for (guint b = 0; b < schedule->blocks->len; b++)
+    n += ((MpBlock *) g_ptr_array_index (schedule->blocks, b))->steps->len;
+  return n;
+}
+
+/* Counts MTE steps still to measure with the given status. */
+int
+mp_schedule_count_status (const MpSchedule *schedule, MpStepStatus status)
+{
+  int n = 0;
+
+  g_return_val_if_fail (schedule != NULL, 0);
+
+  for (guint b = 0; b < schedule->blocks->len; b++)
+    {
+      MpBlock *block = g_ptr_array_index (schedule->blocks, b);
+
+      for (guint i = 0; i < block->steps->len; i++)
+        {
+          const MpStep *s = &g_array_index (block->steps, MpStep, i);
+
+          n += s->kind == MP_STEP_KIND_MTE && !s->done && s->status == status;
+        }
+    }
+  return n;
+}
