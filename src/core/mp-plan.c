@@ -109,7 +109,7 @@ mp_plan_new_default (void)
   plan->laser.bandwidth_meV = 5;
   plan->laser.retune_s = 30;
   plan->laser.wavelength_step_nm = 0.1;
-  range = mp_tuning_range_new ("UV", 0);
+  range = mp_tuning_range_new (NULL, 0);
   add_point (range, 230, 0.05);
   add_point (range, 245, 0.30);
   add_point (range, 265, 0.50);

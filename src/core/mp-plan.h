@@ -165,6 +165,13 @@ const char *mp_cryogen_to_string (MpCryogen cryogen);
 const char *mp_over_budget_to_string (MpOverBudget policy);
 const char *mp_scan_order_to_string (MpScanOrder order);
 
+/* Accepted range of a numeric field, by JSON path: "cathode.work_function_eV",
+ * "temperatures[].temperature_K", "tuning_curve[].wavelength_nm",
+ * "tuning_ranges[].switch_s". max is INFINITY when unbounded. The same
+ * ranges are enforced by the loader and mp_plan_validate(). */
+gboolean mp_plan_field_range (const char *path, double *min, double *max,
+                              gboolean *min_exclusive);
+
 /* A plan with empty containers and every number 0 (the loader fills it). */
 MpPlan *mp_plan_new_empty (void);
 MpTuningRange *mp_tuning_range_new (const char *label, double switch_s);
