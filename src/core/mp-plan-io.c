@@ -131,14 +131,14 @@ check_bytes (const char *data, gsize length, GError **error)
                    length, MP_PLAN_MAX_FILE_BYTES);
       return FALSE;
     }
-  if (!g_utf8_validate_len (data, length, &bad))
-    return fail_at (error, MP_ERROR_INVALID, data, (gsize) (bad - data),
-                    _("expected UTF-8 text, found the invalid byte 0x%02x"),
-                    (guchar) *bad);
   if (memchr (data, '\0', length) != NULL)
     return fail_at (error, MP_ERROR_INVALID, data,
                     (gsize) ((const char *) memchr (data, '\0', length) - data),
                     _("expected UTF-8 text, found a NUL byte"));
+  if (!g_utf8_validate_len (data, length, &bad))
+    return fail_at (error, MP_ERROR_INVALID, data, (gsize) (bad - data),
+                    _("expected UTF-8 text, found the invalid byte 0x%02x"),
+                    (guchar) *bad);
   return scan_structure (data, length, error);
 }
 
@@ -1028,7 +1028,7 @@ build_document (const MpPlan *plan, const char *old_dir, const char *new_dir)
 {
   gboolean fresh = plan->document == NULL || !JSON_NODE_HOLDS_OBJECT (plan->document);
   JsonNode *doc = fresh ? json_node_init_object (json_node_alloc (), json_object_new ())
-                        : json_node_copy (plan->document);
+                        : mp_json_deep_copy (plan->document);
   JsonObject *root = json_node_get_object (doc);
 
   json_object_set_string_member (root, "format", MP_PLAN_FORMAT_NAME);

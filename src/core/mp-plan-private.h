@@ -69,4 +69,7 @@ char *mp_plan_range_path (const MpPlan *plan, guint r);
 gboolean mp_tuning_points_check (const GArray *points, const char *path,
                                  GError **error);
 
+/* A copy sharing nothing with node (json_node_copy() shares containers). */
+JsonNode *mp_json_deep_copy (JsonNode *node);
+
 G_END_DECLS

@@ -9,9 +9,47 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_interp.h>
 
-#include "mp-plan.h"
+#include "mp-plan-private.h"
 
 G_DEFINE_BOXED_TYPE (MpPlan, mp_plan, mp_plan_copy, mp_plan_free)
+
+/* json_node_copy() shares objects and arrays (json-glib 1.6); plans
+ * need their own document. */
+JsonNode *
+mp_json_deep_copy (JsonNode *node)
+{
+  JsonNode *copy;
+
+  if (node == NULL)
+    return NULL;
+  if (JSON_NODE_HOLDS_OBJECT (node))
+    {
+      JsonObject *object = json_object_new ();
+      JsonObjectIter iter;
+      const char *key;
+      JsonNode *child;
+
+      json_object_iter_init_ordered (&iter, json_node_get_object (node));
+      while (json_object_iter_next_ordered (&iter, &key, &child))
+        json_object_set_member (object, key, mp_json_deep_copy (child));
+      copy = json_node_init_object (json_node_alloc (), object);
+      json_object_unref (object);
+      return copy;
+    }
+  if (JSON_NODE_HOLDS_ARRAY (node))
+    {
+      JsonArray *src = json_node_get_array (node);
+      guint n = json_array_get_length (src);
+      JsonArray *array = json_array_sized_new (n);
+
+      for (guint i = 0; i < n; i++)
+        json_array_add_element (array, mp_json_deep_copy (json_array_get_element (src, i)));
+      copy = json_node_init_array (json_node_alloc (), array);
+      json_array_unref (array);
+      return copy;
+    }
+  return json_node_copy (node);
+}
 
 static void
 tuning_range_free (gpointer data)
@@ -165,7 +203,7 @@ mp_plan_copy (const MpPlan *plan)
   copy->cathode.label = g_strdup (plan->cathode.label);
   copy->shift_start = g_strdup (plan->shift_start);
   copy->path = g_strdup (plan->path);
-  copy->document = plan->document != NULL ? json_node_copy (plan->document) : NULL;
+  copy->document = mp_json_deep_copy (plan->document);
 
   copy->laser.ranges = g_ptr_array_new_with_free_func (tuning_range_free);
   for (guint i = 0; plan->laser.ranges != NULL && i < plan->laser.ranges->len; i++)

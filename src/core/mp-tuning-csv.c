@@ -85,10 +85,15 @@ read_cell (CsvState *st, char **cells, guint k, double *out, GError **error)
       const char *why = (*cell != '\0' && *end == '\0' && !isfinite (value))
                         ? _(" (NaN and infinity are not numbers here)") : "";
 
-      g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
-                   _("%s line %u, column %u (%s): expected %s, found \"%s%s\"%s"),
-                   st->name, st->line, c + 1, field->path, expected, shown,
-                   strlen (cell) > 40 ? "…" : "", why);
+      if (*cell != '\0' && *end == '\0' && isfinite (value))
+        g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                     _("%s line %u, column %u (%s): expected %s, found %s"),
+                     st->name, st->line, c + 1, field->path, expected, shown);
+      else
+        g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                     _("%s line %u, column %u (%s): expected %s, found \"%s%s\"%s"),
+                     st->name, st->line, c + 1, field->path, expected, shown,
+                     strlen (cell) > 40 ? "…" : "", why);
       return FALSE;
     }
   *out = value;
@@ -151,9 +156,13 @@ mp_tuning_csv_parse (const char *data, gsize length, const char *display_name,
     }
   if (!g_utf8_validate_len (data, length, &bad))
     {
+      guint line = 1;
+
+      for (const char *p = data; p < bad; p++)
+        line += *p == '\n';
       g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
-                   _("%s: expected UTF-8 text, found an invalid byte at offset %zu"),
-                   st.name, (gsize) (bad - data));
+                   _("%s line %u: expected UTF-8 text, found the invalid byte 0x%02x"),
+                   st.name, line, (guchar) *bad);
       return NULL;
     }
   text = g_strndup (data, length);
