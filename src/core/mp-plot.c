@@ -159,7 +159,16 @@ geom_qe (PlotGeom *g, cairo_t *cr, const MpPlotInk *ink, const MpPlan *plan,
           x_hi = phi_eff + 0.5;
         }
     }
-  pad = MAX ((x_hi - x_lo) * 0.04, 0.01);
+  {
+    double t_lo, t_hi;
+    laser_span_eV (plan, &t_lo, &t_hi);
+    if (isfinite (t_lo))
+      {
+        x_lo = MIN (x_lo, MAX (t_lo, x_lo - 0.3));
+        x_hi = MAX (x_hi, MIN (t_hi, x_hi + 0.3));
+      }
+  }
+  pad = MAX ((x_hi - x_lo) * 0.03, 0.01);
   x_lo -= pad;
   x_hi += pad;
   /* The model curves at the ends of the x range, so that they fit. */
@@ -173,7 +182,7 @@ geom_qe (PlotGeom *g, cairo_t *cr, const MpPlotInk *ink, const MpPlan *plan,
       q_lo = plan->cathode.qe_ref / 100;
       q_hi = plan->cathode.qe_ref * 10;
     }
-  q_lo = MAX (q_lo / 3, q_hi * 1e-9);
+  q_lo = MAX (q_lo / 3, q_hi * 1e-8);
   if (!isfinite (r_lo))
     {
       r_lo = 1;
@@ -273,8 +282,7 @@ geom_timeline (PlotGeom *g, cairo_t *cr, const MpPlotInk *ink,
     l_hi = MAX (l_hi, get_block (schedule, b)->cryogen_start_L);
 
   g->frame = (MpPlotFrame) { 0 };
-  mp_axis_init (&g->frame.x_axis, 0, t_hi * 1.02, FALSE);
-  mp_axis_nice (&g->frame.x_axis, MAX (3, (int) (width / (fs * 6))));
+  mp_axis_init (&g->frame.x_axis, 0, t_hi * 1.03, FALSE);
   mp_axis_init (&g->frame.y_axis, 0, l_hi, FALSE);
   mp_axis_nice (&g->frame.y_axis, 5);
   g->frame.x_label = _("time from shift start (h)");
@@ -319,14 +327,91 @@ geom_compute (PlotGeom *g, cairo_t *cr, const MpPlotInk *ink, MpPlotKind kind,
 
 /* Drawing helpers */
 
+typedef enum
+{
+  LEGEND_RATE = 1 << 0,     /* open circles: count rate on the right axis */
+  LEGEND_TUNING = 1 << 1,   /* grey swatch: laser tuning range */
+  LEGEND_BARS = 1 << 2,     /* error bar: +- goal sigma */
+  LEGEND_STATUS = 1 << 3,   /* open marker = short, cross = unreachable */
+} LegendExtra;
+
+static int
+legend_n_extra (LegendExtra extra)
+{
+  return !!(extra & LEGEND_RATE) + !!(extra & LEGEND_TUNING) + !!(extra & LEGEND_BARS)
+         + !!(extra & LEGEND_STATUS);
+}
+
+static void
+draw_legend_extra (cairo_t *cr, const MpPlotInk *ink, LegendExtra which,
+                   double x, double yy, double fs)
+{
+  const char *text = "";
+
+  mp_plot_set_ink (cr, ink, 1);
+  cairo_set_dash (cr, NULL, 0, 0);
+  cairo_set_line_width (cr, 0.9);
+  if (which == LEGEND_RATE)
+    {
+      mp_plot_draw_marker (cr, MP_MARKER_CIRCLE, x + 14, yy, fs * 0.45, FALSE);
+      text = _("count rate, right axis");
+    }
+  else if (which == LEGEND_TUNING)
+    {
+      mp_plot_set_ink (cr, ink, 0.16);
+      cairo_rectangle (cr, x + 4, yy - fs * 0.4, 20, fs * 0.8);
+      cairo_fill (cr);
+      text = _("laser tuning range");
+    }
+  else if (which == LEGEND_STATUS)
+    {
+      mp_plot_draw_marker (cr, MP_MARKER_CIRCLE, x + 8, yy, fs * 0.6, FALSE);
+      cairo_move_to (cr, x + 16, yy - fs * 0.3);
+      cairo_line_to (cr, x + 22, yy + fs * 0.3);
+      cairo_move_to (cr, x + 16, yy + fs * 0.3);
+      cairo_line_to (cr, x + 22, yy - fs * 0.3);
+      cairo_stroke (cr);
+      text = _("open: short; \xc3\x97: unreachable");
+    }
+  else if (which == LEGEND_BARS)
+    {
+      cairo_move_to (cr, x + 14, yy - fs * 0.5);
+      cairo_line_to (cr, x + 14, yy + fs * 0.5);
+      cairo_move_to (cr, x + 11, yy - fs * 0.5);
+      cairo_line_to (cr, x + 17, yy - fs * 0.5);
+      cairo_move_to (cr, x + 11, yy + fs * 0.5);
+      cairo_line_to (cr, x + 17, yy + fs * 0.5);
+      cairo_stroke (cr);
+      text = _("\xc2\xb1 goal \xcf\x83 of the step");
+    }
+  mp_plot_show_text (cr, ink, text, x + 30, yy, 0, 0.5, fs, 0);
+}
+
+static LegendExtra
+status_legend (const MpSchedule *schedule)
+{
+  if (schedule == NULL)
+    return 0;
+  return (mp_schedule_count_status (schedule, MP_STEP_SHORT) > 0
+          || mp_schedule_count_status (schedule, MP_STEP_UNREACHABLE) > 0)
+         ? LEGEND_STATUS : 0;
+}
+
+/* corner: 0 top left, 1 top right, 2 bottom right, 3 bottom left */
 static void
 draw_legend (cairo_t *cr, const MpPlotInk *ink, const PlotGeom *g,
-             const MpSchedule *schedule, gboolean with_lines, const char *extra,
-             gboolean top_left)
+             const MpSchedule *schedule, gboolean with_lines, LegendExtra extra,
+             int corner)
 {
+  static const LegendExtra all[] = { LEGEND_BARS, LEGEND_STATUS, LEGEND_RATE,
+                                     LEGEND_TUNING };
+  const char *extra_text[] = { _("\xc2\xb1 goal \xcf\x83 of the step"),
+                               _("open: short; \xc3\x97: unreachable"),
+                               _("count rate, right axis"),
+                               _("laser tuning range") };
   double fs = ink->font_size * 0.92;
   double row = fs * 1.35, w = 0, h, x, y;
-  int n = n_blocks (schedule);
+  int n = n_blocks (schedule), k = 0;
 
   for (int b = 0; b < n; b++)
     {
@@ -335,19 +420,21 @@ draw_legend (cairo_t *cr, const MpPlotInk *ink, const PlotGeom *g,
       mp_plot_text_size (cr, t, fs, &tw, NULL);
       w = MAX (w, tw);
     }
-  if (extra)
-    {
-      double tw;
-      mp_plot_text_size (cr, extra, fs, &tw, NULL);
-      w = MAX (w, tw - 28);
-    }
-  w += 34;
-  h = row * (n + (extra ? 1 : 0)) + 4;
-  x = top_left ? g->frame.x + 5 : g->frame.x + g->frame.width - w - 5;
-  y = g->frame.y + 5;
+  for (guint i = 0; i < G_N_ELEMENTS (all); i++)
+    if (extra & all[i])
+      {
+        double tw;
+        mp_plot_text_size (cr, extra_text[i], fs, &tw, NULL);
+        w = MAX (w, tw);
+      }
+  w += 36;
+  h = row * (n + legend_n_extra (extra)) + 4;
+  x = (corner == 0 || corner == 3) ? g->frame.x + 5 : g->frame.x + g->frame.width - w - 5;
+  y = corner < 2 ? g->frame.y + 5 : g->frame.y + g->frame.height - h - 5;
 
   cairo_save (cr);
-  mp_plot_set_ink_alpha (cr, ink, 0, 0.9);
+  cairo_set_dash (cr, NULL, 0, 0);
+  mp_plot_set_ink_alpha (cr, ink, 0, 0.92);
   cairo_rectangle (cr, x, y, w, h);
   cairo_fill_preserve (cr);
   mp_plot_set_ink (cr, ink, 0.5);
@@ -370,9 +457,12 @@ draw_legend (cairo_t *cr, const MpPlotInk *ink, const PlotGeom *g,
                            fs * 0.65, TRUE);
       mp_plot_show_text (cr, ink, t, x + 30, yy, 0, 0.5, fs, 0);
     }
-  if (extra)
-    mp_plot_show_text (cr, ink, extra, x + 3, y + 2 + row * (n + 0.5), 0, 0.5,
-                       fs, 0);
+  for (guint i = 0; i < G_N_ELEMENTS (all); i++)
+    if (extra & all[i])
+      {
+        draw_legend_extra (cr, ink, all[i], x, y + 2 + row * (n + k + 0.5), fs);
+        k++;
+      }
   cairo_restore (cr);
 }
 
@@ -538,11 +628,7 @@ draw_qe (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
 
   mp_plot_frame_draw_axes (cr, f, ink);
   draw_legend (cr, ink, g, schedule, TRUE,
-               _("\xe2\x97\x8b count rate, right axis"), TRUE);
-  /* Name the shading. */
-  mp_plot_show_text (cr, ink, _("shaded: laser tuning range"),
-                     f->x + f->width - 3, f->y + f->height - 3, 1, 1,
-                     fs * 0.85, 0);
+               LEGEND_RATE | LEGEND_TUNING | status_legend (schedule), 2);
 }
 
 /* MTE */
@@ -636,8 +722,7 @@ draw_mte (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
     draw_selection_ring (cr, ink, sel_x, sel_y, msize + 2);
   cairo_restore (cr);
   mp_plot_frame_draw_axes (cr, f, ink);
-  draw_legend (cr, ink, g, schedule, TRUE, _("bars: \xc2\xb1 target \xcf\x83"),
-               TRUE);
+  draw_legend (cr, ink, g, schedule, TRUE, LEGEND_BARS | status_legend (schedule), 0);
 }
 
 /* Timeline */
@@ -678,6 +763,7 @@ draw_timeline_blocks (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
   const MpPlotFrame *f = &g->frame;
   double fs = ink->font_size;
   double label_y = g->strip_y - g->label_h;
+  double label_end = -INFINITY, tw;
 
   for (int b = 0; b < n_blocks (schedule); b++)
     {
@@ -685,8 +771,6 @@ draw_timeline_blocks (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
       double x1 = mp_axis_map (&f->x_axis, block->start_h);
       double x2 = mp_axis_map (&f->x_axis, block->end_h);
       double xs = mp_axis_map (&f->x_axis, block->start_h + block->settle_h);
-      g_autofree char *t = mp_plot_format_temperature (block->temperature_K);
-      double tw;
 
       /* Block band over the frame, alternating shades. */
       mp_plot_set_ink (cr, ink, b % 2 ? 0.10 : 0.05);
@@ -712,14 +796,33 @@ draw_timeline_blocks (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
         }
       cairo_stroke (cr);
       cairo_restore (cr);
-      /* Label, if it fits. */
+    }
+
+  /* Block labels: centred on their block, pushed right where a short
+   * block's label would run into the one before; a tick then points at
+   * the block. */
+  for (int b = 0; b < n_blocks (schedule); b++)
+    {
+      MpBlock *block = get_block (schedule, b);
+      double x1 = mp_axis_map (&f->x_axis, block->start_h);
+      double x2 = mp_axis_map (&f->x_axis, block->end_h);
+      double xc = (x1 + x2) / 2, lx;
+      g_autofree char *t = mp_plot_format_temperature (block->temperature_K);
+
       mp_plot_text_size (cr, t, fs, &tw, NULL);
-      if (tw < x2 - x1 - 2)
-        mp_plot_show_text (cr, ink, t, (x1 + x2) / 2, label_y + g->label_h / 2,
-                           0.5, 0.5, fs, 0);
-      else
-        mp_plot_show_text (cr, ink, t, x1 + 1, label_y + g->label_h / 2,
-                           0, 0.5, fs * 0.7, 0);
+      lx = MAX (xc - tw / 2, label_end + 5);
+      lx = MAX (lx, f->x - 2);
+      mp_plot_show_text (cr, ink, t, lx, label_y + g->label_h / 2 - 1, 0, 0.5,
+                         fs, 0);
+      if (xc < lx || xc > lx + tw)
+        {
+          mp_plot_set_ink (cr, ink, 1);
+          cairo_set_line_width (cr, 0.7);
+          cairo_move_to (cr, lx + 2, label_y + g->label_h - 1);
+          cairo_line_to (cr, xc, g->strip_y);
+          cairo_stroke (cr);
+        }
+      label_end = lx + tw;
     }
 
   /* Steps in the strip: filled = ok, hatched-light = short, outlined with
@@ -826,7 +929,7 @@ draw_timeline (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
       cairo_move_to (cr, x, f->y);
       cairo_line_to (cr, x, f->y + f->height);
       cairo_stroke (cr);
-      mp_plot_show_text (cr, ink, t, x - 2, f->y + 2, 0, 0, fs * 0.85,
+      mp_plot_show_text (cr, ink, t, x - 2, f->y + fs * 1.8, 0, 0, fs * 0.85,
                          G_PI / 2);
     }
   /* Cryogen level. */
@@ -841,9 +944,21 @@ draw_timeline (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
   cairo_restore (cr);
 
   mp_plot_frame_draw_axes (cr, f, ink);
-  budget = g_strdup_printf (_("start: %.1f L (budget)"), plan->cryostat.budget_L);
-  mp_plot_show_text (cr, ink, budget, f->x + f->width - 3, f->y + 2, 1, 0,
-                     fs * 0.85, 0);
+  budget = g_strdup_printf (_("budget %.1f L"), plan->cryostat.budget_L);
+  {
+    double y = mp_axis_map (&f->y_axis, plan->cryostat.budget_L);
+    double dash2[] = { 1, 2 };
+    cairo_save (cr);
+    mp_plot_set_ink (cr, ink, 0.7);
+    cairo_set_line_width (cr, 0.8);
+    cairo_set_dash (cr, dash2, 2, 0);
+    cairo_move_to (cr, f->x, y);
+    cairo_line_to (cr, f->x + f->width, y);
+    cairo_stroke (cr);
+    cairo_restore (cr);
+    mp_plot_show_text (cr, ink, budget, f->x + f->width * 0.55, y + 1.5, 0.5, 0,
+                       fs * 0.85, 0);
+  }
 }
 
 void

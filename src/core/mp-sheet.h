@@ -42,6 +42,17 @@ gboolean mp_sheet_write_pdf (const MpPlan *plan,
                              const char *path,
                              GError **error);
 
+/* The whole sheet as PDF bytes; generated may be NULL (now). */
+GBytes *mp_sheet_render_pdf (const MpPlan *plan,
+                             const MpSchedule *schedule,
+                             MpPaper paper,
+                             GDateTime *generated,
+                             GError **error);
+
+/* A wavelength as the sheet prints it: as many decimals as the laser's
+ * wavelength step needs (0.1 nm -> "243.2"). */
+char *mp_sheet_format_wavelength_nm (const MpPlan *plan, double wavelength_nm);
+
 G_DEFINE_AUTOPTR_CLEANUP_FUNC (MpSheet, mp_sheet_free)
 
 G_END_DECLS
