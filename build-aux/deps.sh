@@ -31,3 +31,18 @@ mteplan_install_deps() {
   $sudo apt-get update -qq || return 1
   $sudo apt-get install -y -qq --no-install-recommends "${missing[@]}" || return 1
 }
+
+# The translation tests run mteplan-cli under de_DE.UTF-8 (German messages
+# and decimal commas). Generates that locale when it is missing (needs the
+# locales package and root); the tests fall back to C.UTF-8 without it.
+mteplan_generate_locales() {
+  if locale -a 2>/dev/null | grep -qiE '^de_DE\.utf-?8$'; then
+    return 0
+  fi
+  command -v localedef >/dev/null 2>&1 || return 1
+  local sudo=""
+  if [ "$(id -u)" -ne 0 ]; then
+    sudo="sudo -n"
+  fi
+  $sudo localedef -i de_DE -f UTF-8 de_DE.UTF-8 2>/dev/null
+}
