@@ -721,29 +721,126 @@ set_dropped_prefix (GArray *order, guint k)
     g_array_index (order, MpWorkRef, i).w->dropped = i < k;
 }
 
+/* Settle time and cool-down of a block not yet started. */
+static void
+block_fixed_cost (const MpBlockWork *bw, double *hours, double *litres)
+{
+  double settle_h = bw->started ? 0.0 : bw->tb->settle_min / 60.0;
+
+  *hours = settle_h;
+  *litres = bw->started ? 0.0 : bw->tb->cooldown_L + bw->tb->hold_L_per_h * settle_h;
+}
+
+typedef struct
+{
+  guint block;
+  double demand;
+} MpBlockRef;
+
+static int
+compare_block_refs (gconstpointer a, gconstpointer b)
+{
+  const MpBlockRef *ra = a, *rb = b;
+
+  if (ra->demand != rb->demand)
+    return ra->demand > rb->demand ? -1 : 1;
+  return ra->block > rb->block ? -1 : (ra->block < rb->block ? 1 : 0);
+}
+
+/* Blocks that could go whole, the most demanding settle and cool-down
+ * first (relative to the whole plan's needs, so independent of budgets). */
+static GArray *
+order_blocks_by_fixed_cost (const MpPlanner *p)
+{
+  GArray *order = g_array_new (FALSE, FALSE, sizeof (MpBlockRef));
+  double all_h, all_L;
+
+  measure_totals (p, &all_h, &all_L);
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      const MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      MpBlockRef ref = { b, 0.0 };
+      double h, L;
+
+      if (bw->started)
+        continue;
+      block_fixed_cost (bw, &h, &L);
+      ref.demand = (all_h > 0.0 ? h / all_h : 0.0) + (all_L > 0.0 ? L / all_L : 0.0);
+      g_array_append_val (order, ref);
+    }
+  g_array_sort (order, compare_block_refs);
+  return order;
+}
+
+/* Leaves out the first n_blocks blocks of block_order whole, then the
+ * shortest prefix of the step order (restricted to the other blocks) that
+ * makes the rest fit. Returns the number of steps left out, or -1 when
+ * nothing fits. Leaves the marks set. */
+static int
+try_drop (MpPlanner *p, const GArray *order, const GArray *block_order,
+          guint n_blocks, GArray *scratch)
+{
+  int n_left = 0;
+  guint lo, hi;
+
+  for (guint b = 0; b < p->blocks->len; b++)
+    ((MpBlockWork *) g_ptr_array_index (p->blocks, b))->dropped = FALSE;
+  for (guint j = 0; j < n_blocks; j++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks,
+                                           g_array_index (block_order, MpBlockRef, j).block);
+
+      bw->dropped = TRUE;
+    }
+  g_array_set_size (scratch, 0);
+  for (guint i = 0; i < order->len; i++)
+    {
+      const MpWorkRef *ref = &g_array_index (order, MpWorkRef, i);
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, ref->block);
+
+      ref->w->dropped = FALSE;
+      if (bw->dropped)
+        n_left++;
+      else
+        g_array_append_val (scratch, *ref);
+    }
+  set_dropped_prefix (scratch, scratch->len);
+  if (!fits (p))
+    return -1;
+  /* Cost never rises as the prefix grows (a removed step never adds a
+   * range switch), so bisection finds the shortest fitting prefix. */
+  lo = 0;
+  hi = scratch->len;
+  while (lo < hi)
+    {
+      guint mid = lo + (hi - lo) / 2;
+
+      set_dropped_prefix (scratch, mid);
+      if (fits (p))
+        hi = mid;
+      else
+        lo = mid + 1;
+    }
+  set_dropped_prefix (scratch, lo);
+  return n_left + (int) lo;
+}
+
+/* Drop: among "leave out the j most demanding blocks whole, then the
+ * least valuable steps" for j = 0, 1, ..., the candidate leaving out the
+ * fewest steps wins (ties: the smaller j). Each candidate leaves out fewer
+ * steps as a budget grows, so their minimum does too. A block whose settle
+ * time or cool-down alone exceeds a budget can never fit and always goes. */
 static void
 apply_drop (MpPlanner *p)
 {
   g_autoptr (GArray) order = g_array_new (FALSE, FALSE, sizeof (MpWorkRef));
-  guint lo, hi;
-  int n_blocks_dropped = 0;
+  g_autoptr (GArray) scratch = g_array_new (FALSE, FALSE, sizeof (MpWorkRef));
+  g_autoptr (GArray) block_order = NULL;
+  int best = -1;
+  guint best_j = 0, n_pending = 0;
 
   rank_steps (p);
-  /* A block whose settle time or cool-down alone does not fit goes whole. */
-  for (guint b = 0; b < p->blocks->len; b++)
-    {
-      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
-      double settle_h = bw->tb->settle_min / 60.0;
-
-      if (bw->started)
-        continue;
-      if (settle_h > p->avail_h
-          || bw->tb->cooldown_L + bw->tb->hold_L_per_h * settle_h > p->avail_L)
-        {
-          bw->dropped = TRUE;
-          n_blocks_dropped++;
-        }
-    }
+  block_order = order_blocks_by_fixed_cost (p);
   for (guint b = 0; b < p->blocks->len; b++)
     {
       MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
@@ -757,63 +854,57 @@ apply_drop (MpPlanner *p)
             g_array_append_val (order, ref);
         }
     }
+  n_pending = order->len;
   g_array_sort (order, compare_refs_by_rank);
+  for (guint j = 0; j <= block_order->len; j++)
+    {
+      int n = try_drop (p, order, block_order, j, scratch);
 
-  /* Shortest prefix of the order whose removal makes the rest fit; cost
-   * never rises as the prefix grows (a removed step never adds a range
-   * switch), so bisection finds it. */
-  lo = 0;
-  hi = order->len;
-  set_dropped_prefix (order, hi);
-  if (!fits (p))
-    {
-      p->feasible = FALSE;
-      set_dropped_prefix (order, 0);
-    }
-  else
-    {
-      while (lo < hi)
+      if (n >= 0 && (best < 0 || n < best))
         {
-          guint mid = lo + (hi - lo) / 2;
-
-          set_dropped_prefix (order, mid);
-          if (fits (p))
-            hi = mid;
-          else
-            lo = mid + 1;
+          best = n;
+          best_j = j;
         }
-      set_dropped_prefix (order, lo);
-      if (lo > 0 && lo == order->len)
-        p->feasible = FALSE;
     }
-  if (!p->feasible)
-    add_warning (p, _("Even leaving out every remaining step, the plan does not fit: "
-                      "%.3g h of beam time and %.3g L of cryogen are available"),
-                 p->avail_h, p->avail_L);
-  else if (lo > 0 || n_blocks_dropped > 0)
-    add_warning (p, _("Over budget: %u steps left out to fit %.3g h and %.3g L"),
-                 lo, p->avail_h, p->avail_L);
-  for (guint i = 0; i < order->len; i++)
+  if (best < 0 || (n_pending > 0 && best == (int) n_pending))
+    p->feasible = FALSE;
+  if (best < 0)
     {
-      MpWork *w = g_array_index (order, MpWorkRef, i).w;
-
-      if (w->dropped)
-        w->drop_reason = N_("over budget");
+      try_drop (p, order, block_order, 0, scratch);
+      set_dropped_prefix (order, 0);
+      add_warning (p, _("Even leaving out every remaining step, the plan does not fit: "
+                        "%.3g h of beam time and %.3g L of cryogen are available"),
+                   p->avail_h, p->avail_L);
+      return;
     }
+  try_drop (p, order, block_order, best_j, scratch);
+  if (best == (int) n_pending && n_pending > 0)
+    add_warning (p, _("No step fits: %.3g h of beam time and %.3g L of cryogen are available"),
+                 p->avail_h, p->avail_L);
+  else if (best > 0)
+    add_warning (p, _("Over budget: %d steps left out to fit %.3g h and %.3g L"),
+                 best, p->avail_h, p->avail_L);
   for (guint b = 0; b < p->blocks->len; b++)
     {
       MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      gboolean kept_any = FALSE, alone_too_big;
+      double h, L;
 
-      if (!bw->dropped)
-        continue;
-      add_warning (p, _("The %g K block is left out: its settle time and cool-down alone "
-                        "do not fit"), bw->tb->temperature_K);
+      block_fixed_cost (bw, &h, &L);
+      alone_too_big = h > p->avail_h || L > p->avail_L;
+      for (guint i = 0; i < bw->work->len; i++)
+        kept_any |= is_pending (bw, &g_array_index (bw->work, MpWork, i));
+      if (!kept_any && alone_too_big && !bw->started)
+        add_warning (p, _("The %g K block is left out: its settle time and cool-down alone "
+                          "do not fit"), bw->tb->temperature_K);
       for (guint i = 0; i < bw->work->len; i++)
         {
           MpWork *w = &g_array_index (bw->work, MpWork, i);
 
-          if (!w->s.done)
-            w->drop_reason = N_("block cool-down does not fit");
+          if (w->s.done || is_pending (bw, w))
+            continue;
+          w->drop_reason = !kept_any && alone_too_big ? N_("block cool-down does not fit")
+                                                      : N_("over budget");
         }
     }
 }
