@@ -71,6 +71,16 @@ run_help (int argc, char **argv)
   return cmd->run (2, help_argv);
 }
 
+/* MTEPLAN_LOCALEDIR points an uninstalled build at its own catalogues
+ * (BUILDDIR/po); the docs tests use it. */
+static const char *
+locale_dir (void)
+{
+  const char *dir = g_getenv ("MTEPLAN_LOCALEDIR");
+
+  return dir != NULL && *dir != '\0' ? dir : LOCALEDIR;
+}
+
 int
 main (int argc, char **argv)
 {
@@ -78,7 +88,7 @@ main (int argc, char **argv)
   g_autofree char *prog = NULL;
 
   setlocale (LC_ALL, "");
-  bindtextdomain (GETTEXT_PACKAGE, LOCALEDIR);
+  bindtextdomain (GETTEXT_PACKAGE, locale_dir ());
   bind_textdomain_codeset (GETTEXT_PACKAGE, "UTF-8");
   textdomain (GETTEXT_PACKAGE);
   mp_core_init ();
