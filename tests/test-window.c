@@ -1,0 +1,342 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* test-window.c: the planning window under Xvfb. These tests check the
+ * window's own promises (issue 5): edits re-plan and show up in the status
+ * line and the table, refused values and bad files leave the document
+ * untouched, undo restores, the unsaved state tracks edits, the window
+ * renders without a GPU. The physics behind the numbers is tested in the
+ * core tests; here only the plumbing is. */
+#include "config.h"
+
+#include <string.h>
+#include <glib/gstdio.h>
+#include <gtk/gtk.h>
+
+#include "mp-physics.h"
+#include "mp-plan-editor.h"
+#include "mp-schedule-view.h"
+#include "mp-window.h"
+
+#define DEMO MP_SOURCE_DIR "/data/examples/cold-copper-shift.mteplan"
+#define WAIT_LIMIT_S 30
+
+static char *state_dir;
+
+/* Iterates the main context until a schedule newer than `after` has landed
+ * and nothing is pending (bounded: fails after WAIT_LIMIT_S). */
+static void
+wait_for_schedule (MpDocument *doc, guint after)
+{
+  gint64 end = g_get_monotonic_time () + WAIT_LIMIT_S * G_USEC_PER_SEC;
+
+  while (mp_document_get_schedule_serial (doc) <= after || mp_document_get_busy (doc))
+    {
+      if (g_get_monotonic_time () > end)
+        g_error ("no schedule landed within %d s", WAIT_LIMIT_S);
+      if (!g_main_context_iteration (NULL, FALSE))
+        g_usleep (2000);
+    }
+}
+
+static MpWindow *
+open_demo (void)
+{
+  MpWindow *window = mp_window_new (NULL);
+  g_autoptr (GFile) file = g_file_new_for_path (DEMO);
+  MpDocument *doc = mp_window_get_document (window);
+  guint serial = mp_document_get_schedule_serial (doc);
+
+  g_assert_true (mp_window_open_file (window, file));
+  g_assert_null (mp_window_get_error_text (window));
+  wait_for_schedule (doc, serial);
+  g_assert_nonnull (mp_document_get_schedule (doc));
+  return window;
+}
+
+static GtkEditable *
+beam_time_entry (MpWindow *window)
+{
+  GtkEditable *entry = mp_plan_editor_get_entry (MP_PLAN_EDITOR (mp_window_get_editor (window)),
+                                                 "beam_time_h");
+
+  g_assert_nonnull (entry);
+  return entry;
+}
+
+static guint
+n_rows (MpWindow *window)
+{
+  return g_list_model_get_n_items (mp_schedule_view_get_model (
+    MP_SCHEDULE_VIEW (mp_window_get_schedule_view (window))));
+}
+
+static void
+test_demo_replans (void)
+{
+  MpWindow *window = open_demo ();
+  MpDocument *doc = mp_window_get_document (window);
+  g_autofree char *status_before = g_strdup (mp_window_get_status_text (window));
+  guint rows_before = n_rows (window);
+  guint serial = mp_document_get_schedule_serial (doc);
+
+  /* The table shows every scheduled step. */
+  g_assert_cmpuint (rows_before, ==, mp_schedule_count_steps (mp_document_get_schedule (doc)));
+  g_assert_cmpuint (rows_before, >, 0);
+  g_assert_nonnull (strstr (status_before, "of 12.0 h"));
+
+  /* Typing a shorter beam time re-plans: fewer steps fit into 1 h. */
+  gtk_editable_set_text (beam_time_entry (window), "1");
+  g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 1.0);
+  wait_for_schedule (doc, serial);
+  g_assert_cmpfloat (mp_document_get_schedule (doc)->beam_time_available_h, ==, 1.0);
+  g_assert_cmpfloat (mp_document_get_schedule (doc)->beam_time_h, <=, 1.0 + 1e-9);
+  g_assert_nonnull (strstr (mp_window_get_status_text (window), "of 1.0 h"));
+  g_assert_cmpstr (mp_window_get_status_text (window), !=, status_before);
+  g_assert_cmpuint (n_rows (window), <, rows_before);
+  g_assert_cmpuint (n_rows (window), ==, mp_schedule_count_steps (mp_document_get_schedule (doc)));
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
+static void
+test_refused_value (void)
+{
+  MpWindow *window = open_demo ();
+  MpDocument *doc = mp_window_get_document (window);
+  MpPlanEditor *editor = MP_PLAN_EDITOR (mp_window_get_editor (window));
+  g_autofree char *before = mp_plan_checksum (mp_document_get_plan (doc));
+  g_autofree char *after = NULL;
+
+  /* Not a number: refused by the entry's parser, with the field named. */
+  gtk_editable_set_text (beam_time_entry (window), "twelve");
+  g_assert_nonnull (mp_plan_editor_get_error (editor, "beam_time_h"));
+  g_assert_nonnull (strstr (mp_plan_editor_get_error (editor, "beam_time_h"), "beam_time_h"));
+
+  /* A number the core rejects: the core's own message is shown. */
+  gtk_editable_set_text (beam_time_entry (window), "-3");
+  g_assert_nonnull (mp_plan_editor_get_error (editor, "beam_time_h"));
+  g_assert_nonnull (strstr (mp_plan_editor_get_error (editor, "beam_time_h"), "beam_time_h"));
+  g_assert_true (gtk_widget_has_css_class (GTK_WIDGET (beam_time_entry (window)), "error"));
+
+  after = mp_plan_checksum (mp_document_get_plan (doc));
+  g_assert_cmpstr (before, ==, after);
+  g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 12.0);
+  g_assert_false (mp_document_get_modified (doc));
+
+  /* A good value clears the message. */
+  gtk_editable_set_text (beam_time_entry (window), "10");
+  g_assert_null (mp_plan_editor_get_error (editor, "beam_time_h"));
+  g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 10.0);
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
+static void
+check_bad_file (MpWindow *window, const char *path)
+{
+  MpDocument *doc = mp_window_get_document (window);
+  g_autofree char *before = mp_plan_checksum (mp_document_get_plan (doc));
+  g_autofree char *path_before = g_strdup (mp_document_get_path (doc));
+  g_autofree char *after = NULL;
+  g_autoptr (GFile) file = g_file_new_for_path (path);
+  g_autoptr (GError) error = NULL;
+  MpPlan *plan = mp_plan_load_from_file (path, &error);
+
+  g_assert_null (plan);
+  g_assert_nonnull (error);
+  g_assert_false (mp_window_open_file (window, file));
+  /* The loader's message is shown as it is. */
+  g_assert_nonnull (mp_window_get_error_text (window));
+  g_assert_nonnull (strstr (mp_window_get_error_text (window), error->message));
+  after = mp_plan_checksum (mp_document_get_plan (doc));
+  g_assert_cmpstr (before, ==, after);
+  g_assert_cmpstr (path_before, ==, mp_document_get_path (doc));
+}
+
+static void
+test_bad_file (void)
+{
+  MpWindow *window = open_demo ();
+  g_autofree char *bad = g_build_filename (state_dir, "broken.mteplan", NULL);
+  g_autofree char *bad_dir = g_test_build_filename (G_TEST_DIST, "data", "bad", NULL);
+  g_autoptr (GDir) dir = g_dir_open (bad_dir, 0, NULL);
+  const char *name;
+  int n_checked = 0;
+
+  g_assert_true (g_file_set_contents (bad, "{ \"format\": \"mteplan\", \"version\": 1,", -1, NULL));
+  check_bad_file (window, bad);
+
+  /* Every bad plan of the loader's tests (when present). */
+  while (dir != NULL && (name = g_dir_read_name (dir)) != NULL)
+    if (g_str_has_suffix (name, ".mteplan"))
+      {
+        g_autofree char *path = g_build_filename (bad_dir, name, NULL);
+
+        check_bad_file (window, path);
+        n_checked++;
+      }
+  g_test_message ("checked %d bad plans from tests/data/bad", n_checked);
+  g_assert_false (mp_document_get_modified (mp_window_get_document (window)));
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
+static void
+test_undo_redo (void)
+{
+  MpWindow *window = open_demo ();
+  MpDocument *doc = mp_window_get_document (window);
+  GtkEditable *entry = beam_time_entry (window);
+
+  g_assert_false (mp_document_can_undo (doc));
+  gtk_editable_set_text (entry, "7");
+  gtk_editable_set_text (entry, "7.5");  /* one typing run: one undo step */
+  g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 7.5);
+  g_assert_true (mp_document_can_undo (doc));
+
+  g_assert_true (g_action_group_has_action (G_ACTION_GROUP (window), "undo"));
+  g_action_group_activate_action (G_ACTION_GROUP (window), "undo", NULL);
+  g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 12.0);
+  g_assert_cmpstr (gtk_editable_get_text (entry), ==, "12");
+  g_assert_true (mp_document_can_redo (doc));
+
+  g_action_group_activate_action (G_ACTION_GROUP (window), "redo", NULL);
+  g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 7.5);
+  g_assert_cmpstr (gtk_editable_get_text (entry), ==, "7.5");
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
+static void
+test_modified_state (void)
+{
+  MpWindow *window = open_demo ();
+  MpDocument *doc = mp_window_get_document (window);
+  g_autofree char *copy = g_build_filename (state_dir, "saved.mteplan", NULL);
+  g_autoptr (GError) error = NULL;
+  const char *autosave;
+
+  g_assert_false (mp_document_get_modified (doc));
+  g_assert_false (g_str_has_prefix (gtk_window_get_title (GTK_WINDOW (window)), "*"));
+
+  gtk_editable_set_text (beam_time_entry (window), "8");
+  g_assert_true (mp_document_get_modified (doc));
+  g_assert_true (g_str_has_prefix (gtk_window_get_title (GTK_WINDOW (window)), "*"));
+
+  /* Autosave lands in the XDG state directory and reads back. */
+  autosave = mp_window_autosave_now (window);
+  g_assert_nonnull (autosave);
+  g_assert_true (g_str_has_prefix (autosave, state_dir));
+  {
+    g_autoptr (GError) load_error = NULL;
+    MpPlan *plan = mp_plan_load_from_file (autosave, &load_error);
+
+    g_assert_no_error (load_error);
+    g_assert_cmpfloat (plan->beam_time_h, ==, 8.0);
+    mp_plan_free (plan);
+  }
+
+  /* Undo back to the loaded state: unmodified again. */
+  mp_document_undo (doc);
+  g_assert_false (mp_document_get_modified (doc));
+  mp_document_redo (doc);
+  g_assert_true (mp_document_get_modified (doc));
+
+  /* A save makes it clean (and removes the autosave file). */
+  g_assert_true (mp_document_save (doc, copy, &error));
+  g_assert_no_error (error);
+  g_assert_false (mp_document_get_modified (doc));
+  g_assert_cmpstr (mp_document_get_path (doc), ==, copy);
+
+  gtk_editable_set_text (beam_time_entry (window), "9");
+  g_assert_true (mp_document_get_modified (doc));
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
+/* Counts distinct colours in a region of an RGBA texture. */
+static guint
+count_colours (GdkTexture *texture, int x0, int y0, int w, int h)
+{
+  int width = gdk_texture_get_width (texture);
+  int height = gdk_texture_get_height (texture);
+  g_autofree guchar *data = g_malloc ((gsize) width * height * 4);
+  g_autoptr (GHashTable) seen = g_hash_table_new (g_direct_hash, g_direct_equal);
+
+  gdk_texture_download (texture, data, (gsize) width * 4);
+  for (int y = y0; y < MIN (height, y0 + h); y++)
+    for (int x = x0; x < MIN (width, x0 + w); x++)
+      {
+        guint32 pixel;
+
+        memcpy (&pixel, data + ((gsize) y * width + x) * 4, 4);
+        g_hash_table_add (seen, GUINT_TO_POINTER (pixel));
+      }
+  return g_hash_table_size (seen);
+}
+
+static void
+test_renders_without_gpu (void)
+{
+  MpWindow *window = open_demo ();
+  g_autoptr (GskRenderer) renderer = gsk_cairo_renderer_new ();
+  g_autoptr (GdkPaintable) paintable = NULL;
+  g_autoptr (GtkSnapshot) snapshot = gtk_snapshot_new ();
+  g_autoptr (GskRenderNode) node = NULL;
+  g_autoptr (GdkTexture) texture = NULL;
+  g_autoptr (GError) error = NULL;
+  gint64 end = g_get_monotonic_time () + WAIT_LIMIT_S * G_USEC_PER_SEC;
+  int width, height;
+
+  gtk_window_set_default_size (GTK_WINDOW (window), 1024, 700);
+  gtk_window_present (GTK_WINDOW (window));
+  while (gtk_widget_get_width (GTK_WIDGET (window)) < 100 && g_get_monotonic_time () < end)
+    g_main_context_iteration (NULL, TRUE);
+  for (int i = 0; i < 50; i++)
+    g_main_context_iteration (NULL, FALSE);
+  width = gtk_widget_get_width (GTK_WIDGET (window));
+  height = gtk_widget_get_height (GTK_WIDGET (window));
+  g_assert_cmpint (width, >=, 100);
+
+  g_assert_true (gsk_renderer_realize (renderer, NULL, &error));
+  paintable = gtk_widget_paintable_new (GTK_WIDGET (window));
+  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), width, height);
+  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
+  g_assert_nonnull (node);
+  texture = gsk_renderer_render_texture (renderer, node, &GRAPHENE_RECT_INIT (0, 0, width, height));
+  g_assert_nonnull (texture);
+  /* The right half holds plots and the table: far more than a blank fill. */
+  g_assert_cmpuint (count_colours (texture, width / 2, 60, width / 2, height / 2), >, 20);
+  gsk_renderer_unrealize (renderer);
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
+int
+main (int argc, char *argv[])
+{
+  g_autofree char *tmp = g_dir_make_tmp ("mteplan-test-window-XXXXXX", NULL);
+
+  /* Autosaves go to a private state directory; no settings are kept. */
+  state_dir = g_build_filename (tmp, "state", NULL);
+  g_mkdir_with_parents (state_dir, 0700);
+  g_setenv ("XDG_STATE_HOME", state_dir, TRUE);
+  g_setenv ("GSETTINGS_BACKEND", "memory", TRUE);
+  g_setenv ("GSK_RENDERER", "cairo", TRUE);
+  g_setenv ("NO_AT_BRIDGE", "1", TRUE);
+
+  gtk_test_init (&argc, &argv, NULL);
+  mp_core_init ();
+
+  if (!g_file_test (DEMO, G_FILE_TEST_EXISTS))
+    {
+      g_test_skip ("the demo plan is missing");
+      return g_test_run ();
+    }
+  g_test_add_func ("/window/demo-replans", test_demo_replans);
+  g_test_add_func ("/window/refused-value", test_refused_value);
+  g_test_add_func ("/window/bad-file", test_bad_file);
+  g_test_add_func ("/window/undo-redo", test_undo_redo);
+  g_test_add_func ("/window/modified-state", test_modified_state);
+  g_test_add_func ("/window/renders-without-gpu", test_renders_without_gpu);
+  return g_test_run ();
+}
