@@ -72,8 +72,8 @@ else
   echo "# the planner or the demo plan is not there yet: plan output not compared"
 fi
 if [ -f "$demo" ] && en help rehearse >/dev/null 2>&1; then
-  en rehearse "$demo" --trials 16 --seed 3 --threads 1 --json >"$tmp/en-r.json" 2>/dev/null
-  de rehearse "$demo" --trials 16 --seed 3 --threads 1 --json >"$tmp/de-r.json" 2>/dev/null
+  en rehearse "$demo" --trials 2 --seed 3 --threads 1 --json >"$tmp/en-r.json" 2>/dev/null
+  de rehearse "$demo" --trials 2 --seed 3 --threads 1 --json >"$tmp/de-r.json" 2>/dev/null
   check "rehearse --json is byte-identical in German" \
     '[ -s "$tmp/en-r.json" ] && cmp -s "$tmp/en-r.json" "$tmp/de-r.json"'
 fi
