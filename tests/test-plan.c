@@ -424,6 +424,35 @@ test_number_output (void)
   assert_plans_equal (plan, again);
 }
 
+/* The bundled examples load, validate and survive a save unchanged; a
+ * byte-order mark in front of a plan is accepted. */
+static void
+test_examples (void)
+{
+  const char *names[] = { "cold-copper-shift.mteplan", "tight-helium-budget.mteplan" };
+
+  for (guint i = 0; i < G_N_ELEMENTS (names); i++)
+    {
+      g_autofree char *path = g_build_filename (MP_SOURCE_DIR, "data", "examples", names[i], NULL);
+      g_autofree char *text = read_file (path);
+      g_autofree char *with_bom = g_strconcat ("\xef\xbb\xbf", text, NULL);
+      g_autoptr(MpPlan) plan = NULL;
+      g_autoptr(MpPlan) again = NULL;
+      g_autoptr(MpPlan) bom = NULL;
+      GError *error = NULL;
+
+      plan = mp_plan_load_from_file (path, &error);
+      g_assert_no_error (error);
+      g_assert_true (mp_plan_validate (plan, &error));
+      g_assert_no_error (error);
+      again = reload (plan);
+      assert_plans_equal (plan, again);
+      bom = mp_plan_load_from_data (with_bom, -1, NULL, &error);
+      g_assert_no_error (error);
+      assert_plans_equal (plan, bom);
+    }
+}
+
 /* ------------------------------------------------------------ validation */
 
 static void
@@ -1049,6 +1078,7 @@ main (int argc, char **argv)
   g_test_add_func ("/plan/edit-round-trip", test_edit_round_trip);
   g_test_add_func ("/plan/locale", test_locale);
   g_test_add_func ("/plan/number-output", test_number_output);
+  g_test_add_func ("/plan/examples", test_examples);
   g_test_add_func ("/plan/validate/messages", test_validate_messages);
   g_test_add_func ("/plan/validate/field-range", test_field_range);
   g_test_add_func ("/plan/bad/corpus", test_bad_corpus);

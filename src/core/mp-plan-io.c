@@ -314,6 +314,16 @@ walk_node (JsonNode *node, const Crumb *crumb, int depth, GError **error)
       if (n > MP_PLAN_MAX_STRING_BYTES)
         return fail_long_text (error, crumb, n);
     }
+  else if (JSON_NODE_HOLDS_VALUE (node) && json_node_get_value_type (node) == G_TYPE_DOUBLE
+           && !isfinite (json_node_get_double (node)))
+    {
+      /* Also in keys this build does not know: they must save again. */
+      g_autofree char *path = crumb_path (crumb);
+
+      g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                   _("%s: expected a number, found a number too large to represent"), path);
+      return FALSE;
+    }
   return TRUE;
 }
 
@@ -769,6 +779,12 @@ mp_plan_load_from_data (const char *data, gssize length,
 
   if (length < 0)
     length = (gssize) strlen (data);
+  /* A byte-order mark, as some editors on Windows write. */
+  if (length >= 3 && memcmp (data, "\xef\xbb\xbf", 3) == 0)
+    {
+      data += 3;
+      length -= 3;
+    }
   if (!check_bytes (data, (gsize) length, error))
     return NULL;
   parser = json_parser_new ();
