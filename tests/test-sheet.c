@@ -1,6 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* The run sheet and the plots: page sizes, pagination, the text an
- * operator relies on (checked with pdftotext), axes and hit testing. Also
+/* The run sheet: page sizes, pagination, the text an operator relies on
+ * (checked with pdftotext), clock times, re-plans. Also
  * renders every page of the demo sheets to PNG in the build directory
  * (sheet-png/) for people to look at; those are not compared. */
 #include "config.h"
@@ -13,8 +13,6 @@
 
 #include "mp-physics.h"
 #include "mp-plan.h"
-#include "mp-plot-axes.h"
-#include "mp-plot.h"
 #include "mp-schedule.h"
 #include "mp-sheet.h"
 
@@ -423,103 +421,6 @@ test_over_budget (void)
   render_pngs (letter, "tight-letter");
 }
 
-/* Axes: 1-2-5 steps for linear ticks and whole decades for log ticks
- * (common practice, no source). */
-static void
-test_axes (void)
-{
-  MpAxis axis;
-  g_autoptr (GArray) ticks = NULL;
-  g_autoptr (GArray) minor = NULL;
-  g_autofree char *label = NULL, *neg = NULL, *one = NULL;
-
-  mp_axis_init (&axis, 0.03, 0.97, FALSE);
-  mp_axis_nice (&axis, 5);
-  g_assert_cmpfloat (axis.min, ==, 0);
-  g_assert_cmpfloat_with_epsilon (axis.max, 1.0, 1e-12);
-  ticks = mp_axis_major_ticks (&axis, 5);
-  g_assert_cmpuint (ticks->len, ==, 6);
-  g_assert_cmpfloat_with_epsilon (g_array_index (ticks, double, 1), 0.2, 1e-12);
-  label = mp_axis_format_tick (&axis, 0.4, 5);
-  g_assert_cmpstr (label, ==, "0.4");
-
-  mp_axis_init (&axis, -0.12, 0.4, FALSE);
-  neg = mp_axis_format_tick (&axis, -0.1, 5);
-  g_assert_cmpstr (neg, ==, "\xe2\x88\x92" "0.1");
-
-  g_assert_true (mp_axis_wants_log (2e-7, 3e-5));
-  g_assert_false (mp_axis_wants_log (20, 140));
-  g_assert_false (mp_axis_wants_log (0, 140));
-  mp_axis_init (&axis, 3e-7, 2e-5, TRUE);
-  mp_axis_nice (&axis, 8);
-  g_assert_cmpfloat_with_epsilon (log10 (axis.min), -7, 1e-9);
-  g_assert_cmpfloat_with_epsilon (log10 (axis.max), -4, 1e-9);
-  mp_axis_set_position (&axis, 100, 0);
-  g_assert_cmpfloat_with_epsilon (mp_axis_map (&axis, 1e-7), 100, 1e-9);
-  g_assert_cmpfloat_with_epsilon (mp_axis_map (&axis, 1e-5), 100.0 / 3, 1e-9);
-  g_assert_cmpfloat_with_epsilon (mp_axis_unmap (&axis, 0), 1e-4, 1e-15);
-  g_clear_pointer (&ticks, g_array_unref);
-  ticks = mp_axis_major_ticks (&axis, 8);
-  g_assert_cmpuint (ticks->len, ==, 4);
-  minor = mp_axis_minor_ticks (&axis, 8);
-  g_assert_cmpuint (minor->len, ==, 3 * 8);   /* 2..9 in each of 3 decades */
-  g_clear_pointer (&label, g_free);
-  label = mp_axis_format_tick (&axis, 1e-6, 8);
-  g_assert_cmpstr (label, ==, "10<sup>\xe2\x88\x92" "6</sup>");
-  one = mp_axis_format_tick (&axis, 100, 8);
-  g_assert_cmpstr (one, ==, "100");
-}
-
-/* Hit testing finds steps where they are drawn and nothing in the margin;
- * each kind of plot also renders to PNG (colour and grey) for review. */
-static void
-test_plots (void)
-{
-  g_autoptr (MpPlan) plan = load_demo ();
-  g_autoptr (MpSchedule) schedule = schedule_for (plan);
-  const double w = 800, h = 480;
-  int n_steps = mp_schedule_count_steps (schedule);
-
-  for (int kind = MP_PLOT_QE_RATE; kind <= MP_PLOT_TIMELINE; kind++)
-    {
-      g_autoptr (GHashTable) found = g_hash_table_new (NULL, NULL);
-      g_autofree char *dir = g_build_filename (out_dir, "sheet-png", NULL);
-      g_autofree char *png = g_strdup_printf ("%s/plot-%d.png", dir, kind);
-      cairo_surface_t *surface;
-      cairo_t *cr;
-      MpPlotStyle style;
-
-      for (double y = 0; y < h; y += 2)
-        for (double x = 0; x < w; x += 2)
-          {
-            int k = mp_plot_hit_test (kind, plan, schedule, w, h, x, y);
-            g_assert_cmpint (k, >=, 0);
-            g_assert_cmpint (k, <=, n_steps);
-            if (k > 0)
-              g_hash_table_add (found, GINT_TO_POINTER (k));
-          }
-      g_test_message ("plot %d: %u of %d steps can be hit", kind,
-                      g_hash_table_size (found), n_steps);
-      /* Markers may overlap (equal MTE at high excess), but most steps
-       * must be reachable by the pointer. */
-      g_assert_cmpuint (g_hash_table_size (found), >=, (guint) (n_steps / 2));
-      g_assert_cmpint (mp_plot_hit_test (kind, plan, schedule, w, h, 1, h - 1), ==, 0);
-
-      g_mkdir_with_parents (dir, 0755);
-      surface = cairo_image_surface_create (CAIRO_FORMAT_RGB24, (int) w, (int) h);
-      cr = cairo_create (surface);
-      cairo_set_source_rgb (cr, 1, 1, 1);
-      cairo_paint (cr);
-      mp_plot_style_init (&style);
-      style.selected_step = 3;
-      mp_plot_draw (cr, kind, plan, schedule, &style, w, h);
-      g_assert_cmpint (cairo_status (cr), ==, CAIRO_STATUS_SUCCESS);
-      g_assert_cmpint (cairo_surface_write_to_png (surface, png), ==, CAIRO_STATUS_SUCCESS);
-      cairo_destroy (cr);
-      cairo_surface_destroy (surface);
-    }
-}
-
 int
 main (int argc, char **argv)
 {
@@ -535,8 +436,6 @@ main (int argc, char **argv)
   g_test_add_func ("/sheet/clock", test_clock);
   g_test_add_func ("/sheet/done-steps", test_done_steps);
   g_test_add_func ("/sheet/over-budget", test_over_budget);
-  g_test_add_func ("/plot/axes", test_axes);
-  g_test_add_func ("/plot/hit-and-render", test_plots);
   status = g_test_run ();
   g_free (out_dir);
   return status;

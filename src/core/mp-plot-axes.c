@@ -452,26 +452,41 @@ mp_plot_draw_marker (cairo_t *cr, MpMarker marker, double x, double y,
 
 /* Text */
 
-PangoLayout *
-mp_plot_create_layout (cairo_t *cr, const char *family, double size,
-                       PangoWeight weight)
+/* One Pango context per thread, without hinting, so that text measures
+ * the same on every surface and at every scale. Creating a context per
+ * layout would cost more than the layout itself. */
+static GPrivate text_context = G_PRIVATE_INIT (g_object_unref);
+
+static PangoContext *
+get_text_context (void)
 {
-  PangoLayout *layout;
-  PangoContext *context;
-  PangoFontDescription *desc;
+  PangoContext *context = g_private_get (&text_context);
   cairo_font_options_t *options;
 
-  g_return_val_if_fail (cr != NULL, NULL);
-
-  layout = pango_cairo_create_layout (cr);
-  context = pango_layout_get_context (layout);
+  if (context != NULL)
+    return context;
+  context = pango_font_map_create_context (pango_cairo_font_map_get_default ());
   options = cairo_font_options_create ();
   cairo_font_options_set_hint_metrics (options, CAIRO_HINT_METRICS_OFF);
   cairo_font_options_set_hint_style (options, CAIRO_HINT_STYLE_NONE);
   pango_cairo_context_set_font_options (context, options);
   cairo_font_options_destroy (options);
+  pango_cairo_context_set_resolution (context, 72);
   pango_context_set_round_glyph_positions (context, FALSE);
-  pango_layout_context_changed (layout);
+  g_private_set (&text_context, context);
+  return context;
+}
+
+PangoLayout *
+mp_plot_create_layout (cairo_t *cr, const char *family, double size,
+                       PangoWeight weight)
+{
+  PangoLayout *layout;
+  PangoFontDescription *desc;
+
+  g_return_val_if_fail (cr != NULL, NULL);
+
+  layout = pango_layout_new (get_text_context ());
 
   desc = pango_font_description_from_string (family ? family : MP_PLOT_FONT);
   pango_font_description_set_absolute_size (desc, size * PANGO_SCALE);
@@ -522,7 +537,6 @@ mp_plot_show_text (cairo_t *cr, const MpPlotInk *ink, const char *markup,
                  -yalign * h - (double) logical.y / PANGO_SCALE);
   if (ink != NULL)
     mp_plot_set_ink (cr, ink, 1);
-  pango_cairo_update_layout (cr, layout);
   pango_cairo_show_layout (cr, layout);
   g_object_unref (layout);
   cairo_restore (cr);

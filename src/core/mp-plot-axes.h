@@ -82,7 +82,9 @@ void mp_plot_draw_marker (cairo_t *cr, MpMarker marker, double x, double y,
                           double size, gboolean filled);
 
 /* Text. The layout's font metrics do not depend on the surface, so a
- * measurement on one surface holds on another. */
+ * measurement on one surface holds on another. Layouts come from one
+ * Pango context per thread: use them on the thread that made them. size
+ * is absolute, in user units. */
 PangoLayout *mp_plot_create_layout (cairo_t *cr, const char *family,
                                     double size, PangoWeight weight);
 /* Draws markup with its box anchored at (x, y): xalign/yalign 0 = left/top,

@@ -356,7 +356,6 @@ static void
 show_layout (cairo_t *cr, PangoLayout *layout, double x, double y)
 {
   cairo_move_to (cr, x, y);
-  pango_cairo_update_layout (cr, layout);
   pango_cairo_show_layout (cr, layout);
 }
 
