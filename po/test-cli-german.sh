@@ -71,6 +71,13 @@ if [ -f "$demo" ] && en help plan >/dev/null 2>&1; then
 else
   echo "# the planner or the demo plan is not there yet: plan output not compared"
 fi
+measured=$src/tests/data/measured/cold-sweep.csv
+if [ -f "$demo" ] && [ -f "$measured" ] && en help fit >/dev/null 2>&1; then
+  en fit "$demo" "$measured" --qe-only --json >"$tmp/en-fit.json" 2>/dev/null; rc_en=$?
+  de fit "$demo" "$measured" --qe-only --json >"$tmp/de-fit.json" 2>/dev/null; rc_de=$?
+  check "fit --json exits alike and is byte-identical in German" \
+    '[ $rc_en -eq $rc_de ] && [ -s "$tmp/en-fit.json" ] && cmp -s "$tmp/en-fit.json" "$tmp/de-fit.json"'
+fi
 if [ -f "$demo" ] && en help rehearse >/dev/null 2>&1; then
   en rehearse "$demo" --trials 2 --seed 3 --threads 1 --json >"$tmp/en-r.json" 2>/dev/null
   de rehearse "$demo" --trials 2 --seed 3 --threads 1 --json >"$tmp/de-r.json" 2>/dev/null
