@@ -5,6 +5,7 @@
  * (build-aux/deps.sh generates de_DE.UTF-8); without it the tests skip. */
 #include "config.h"
 
+#include "mp-measured.h"
 #include "mp-physics.h"
 #include "mp-plan.h"
 
@@ -330,6 +331,50 @@ test_load_under_german_locale (void)
   g_rmdir (dir);
 }
 
+/* Measured data read while the locale is German: the same numbers. */
+static void
+test_measured_under_german_locale (void)
+{
+  const char *csv =
+    "temperature_K,wavelength_nm,qe,mte_meV,mte_sigma_meV,elapsed_h\n"
+    "40.5,270.25,1.25e-7,12.5,0.75,0.5\n"
+    "40.5,271.75,6.5e-8,,,0.625\n";
+  g_autoptr (MpMeasuredData) in_c = NULL;
+  g_autoptr (MpMeasuredData) in_de = NULL;
+  g_autoptr (GError) error = NULL;
+
+  leave_german_locale ();
+  in_c = mp_measured_load_from_data (csv, -1, "locale.csv", &error);
+  g_assert_no_error (error);
+  g_assert_cmpuint (in_c->points->len, ==, 2);
+  assert_same_number ("temperature_K",
+                      g_array_index (in_c->points, MpMeasuredPoint, 0).temperature_K, 40.5);
+  assert_same_number ("mte_meV", g_array_index (in_c->points, MpMeasuredPoint, 0).mte_meV, 12.5);
+  assert_same_number ("qe", g_array_index (in_c->points, MpMeasuredPoint, 1).qe, 6.5e-8);
+
+  if (!enter_german_locale ())
+    {
+      g_test_skip ("the locale de_DE.UTF-8 is not available");
+      return;
+    }
+  in_de = mp_measured_load_from_data (csv, -1, "locale.csv", &error);
+  leave_german_locale ();
+  g_assert_no_error (error);
+  g_assert_cmpuint (in_de->points->len, ==, in_c->points->len);
+  for (guint i = 0; i < in_c->points->len; i++)
+    {
+      const MpMeasuredPoint *a = &g_array_index (in_c->points, MpMeasuredPoint, i);
+      const MpMeasuredPoint *b = &g_array_index (in_de->points, MpMeasuredPoint, i);
+
+      assert_same_number ("temperature_K", a->temperature_K, b->temperature_K);
+      assert_same_number ("photon_energy_eV", a->photon_energy_eV, b->photon_energy_eV);
+      assert_same_number ("qe", a->qe, b->qe);
+      assert_same_number ("mte_meV", a->mte_meV, b->mte_meV);
+      assert_same_number ("mte_sigma_meV", a->mte_sigma_meV, b->mte_sigma_meV);
+      assert_same_number ("elapsed_h", a->elapsed_h, b->elapsed_h);
+    }
+}
+
 int
 main (int argc, char **argv)
 {
@@ -340,5 +385,6 @@ main (int argc, char **argv)
   g_test_add_func ("/plan-locale/text-round-trip", test_text_round_trip);
   g_test_add_func ("/plan-locale/file-round-trip", test_file_round_trip);
   g_test_add_func ("/plan-locale/load-under-german-locale", test_load_under_german_locale);
+  g_test_add_func ("/plan-locale/measured-under-german-locale", test_measured_under_german_locale);
   return g_test_run ();
 }
