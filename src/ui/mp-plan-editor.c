@@ -458,7 +458,7 @@ field_new (MpPlanEditor *self, const FieldDesc *desc, int row)
 
   field->entry = gtk_entry_new ();
   gtk_editable_set_width_chars (GTK_EDITABLE (field->entry),
-                                desc->type == TYPE_STRING || desc->type == TYPE_OPT_STRING ? 22 : 10);
+                                desc->type == TYPE_STRING || desc->type == TYPE_OPT_STRING ? 16 : 10);
   /* Ctrl+Z goes to the document's history, which covers every field. */
   gtk_editable_set_enable_undo (GTK_EDITABLE (field->entry), FALSE);
   if (desc->type == TYPE_DOUBLE || desc->type == TYPE_INT)
@@ -611,6 +611,7 @@ page_new (MpPlanEditor *self, const char *name, const char *title, GtkWidget **b
 
   gtk_scrolled_window_set_policy (GTK_SCROLLED_WINDOW (scrolled),
                                   GTK_POLICY_AUTOMATIC, GTK_POLICY_AUTOMATIC);
+  gtk_scrolled_window_set_propagate_natural_width (GTK_SCROLLED_WINDOW (scrolled), TRUE);
   gtk_widget_set_margin_start (box, 12);
   gtk_widget_set_margin_end (box, 12);
   gtk_widget_set_margin_top (box, 6);

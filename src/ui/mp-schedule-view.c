@@ -121,7 +121,8 @@ format_value (const MpStep *step, Column column)
     case COL_EXCESS: return g_strdup_printf ("%+.1f", v * 1000.0);
     case COL_TRANSMISSION: return g_strdup_printf ("%.3g", v);
     case COL_OD: return g_strdup_printf ("%.2f", v);
-    case COL_RATE: return g_strdup_printf ("%.3g", v);
+    case COL_RATE:
+      return v >= 1.0 && v < 1e6 ? g_strdup_printf ("%.0f", v) : g_strdup_printf ("%.3g", v);
     case COL_DWELL: return g_strdup_printf ("%.0f", v);
     case COL_TARGET:
     case COL_REACHED:
@@ -226,11 +227,19 @@ compare_cb (gconstpointer a, gconstpointer b, gpointer user_data)
          : sa->index > sb->index ? GTK_ORDERING_LARGER : GTK_ORDERING_EQUAL;
 }
 
+/* The order shown: what the operator needs first on the left. */
+static const Column column_order[N_COLUMNS] = {
+  COL_INDEX, COL_TEMPERATURE, COL_KIND, COL_STATUS, COL_WAVELENGTH, COL_PHOTON_ENERGY,
+  COL_EXCESS, COL_MTE, COL_TARGET, COL_REACHED, COL_DWELL, COL_START, COL_RATE,
+  COL_TRANSMISSION, COL_OD, COL_PRIORITY,
+};
+
 static void
 add_columns (MpScheduleView *self)
 {
-  for (int c = 0; c < N_COLUMNS; c++)
+  for (int i = 0; i < N_COLUMNS; i++)
     {
+      Column c = column_order[i];
       GtkListItemFactory *factory = gtk_signal_list_item_factory_new ();
       GtkColumnViewColumn *column;
       GtkSorter *sorter;

@@ -959,6 +959,50 @@ drop_cb (GtkDropTarget *target, const GValue *value, double x, double y, MpWindo
   return files != NULL;
 }
 
+/* ---- Layout ------------------------------------------------------------ */
+
+/* Until the user drags a pane, the input pages get about 540 px (at most
+ * half the window) and the plots 55 % of the height on the right. */
+static void
+apply_split (MpWindow *self, GtkPaned *paned)
+{
+  int max = 0;
+  int position;
+
+  g_object_get (paned, "max-position", &max, NULL);
+  if (max < 200)
+    return;
+  if (paned == self->main_paned)
+    {
+      int min_size, natural;
+
+      gtk_widget_measure (GTK_WIDGET (self->editor), GTK_ORIENTATION_HORIZONTAL, -1,
+                          &min_size, &natural, NULL, NULL);
+      position = MAX (min_size, MIN (540, max / 2));
+    }
+  else
+    position = (int) (max * 0.55);
+  g_object_set_data (G_OBJECT (paned), "auto-position", GINT_TO_POINTER (position));
+  gtk_paned_set_position (paned, position);
+}
+
+static void
+pane_max_position_cb (GtkPaned *paned, GParamSpec *pspec, MpWindow *self)
+{
+  if (g_object_get_data (G_OBJECT (paned), "user-moved") == NULL)
+    apply_split (self, paned);
+}
+
+static void
+pane_position_cb (GtkPaned *paned, GParamSpec *pspec, MpWindow *self)
+{
+  int automatic = GPOINTER_TO_INT (g_object_get_data (G_OBJECT (paned), "auto-position"));
+
+  if (automatic > 0 && ABS (gtk_paned_get_position (paned) - automatic) > 2
+      && gtk_widget_get_mapped (GTK_WIDGET (paned)))
+    g_object_set_data (G_OBJECT (paned), "user-moved", GINT_TO_POINTER (1));
+}
+
 /* ---- Selection between table and plots -------------------------------- */
 
 static void
@@ -1018,10 +1062,16 @@ screenshot_cb (gpointer user_data)
   int width = gtk_widget_get_width (GTK_WIDGET (self));
   int height = gtk_widget_get_height (GTK_WIDGET (self));
 
-  if (mp_document_get_busy (self->document) && mp_document_get_schedule_serial (self->document) == 0)
+  static int tries;
+
+  if ((mp_document_get_busy (self->document) || mp_document_get_schedule_serial (self->document) == 0)
+      && tries++ < 40)
     return G_SOURCE_CONTINUE;
   gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), width, height);
   node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
+  /* Not drawn yet: try again at the next tick. */
+  if (node == NULL && tries++ < 40)
+    return G_SOURCE_CONTINUE;
   if (node != NULL && renderer != NULL)
     texture = gsk_renderer_render_texture (renderer, node,
                                            &GRAPHENE_RECT_INIT (0, 0, width, height));
@@ -1220,6 +1270,12 @@ mp_window_init (MpWindow *self)
   mp_plan_editor_set_document (self->editor, self->document);
   mp_schedule_view_set_document (self->schedule_view, self->document);
   add_plots (self);
+  g_signal_connect (self->main_paned, "notify::max-position",
+                    G_CALLBACK (pane_max_position_cb), self);
+  g_signal_connect (self->result_paned, "notify::max-position",
+                    G_CALLBACK (pane_max_position_cb), self);
+  g_signal_connect (self->main_paned, "notify::position", G_CALLBACK (pane_position_cb), self);
+  g_signal_connect (self->result_paned, "notify::position", G_CALLBACK (pane_position_cb), self);
 
   name = g_strdup_printf ("autosave-%d-%u.mteplan", (int) getpid (), ++counter);
   self->autosave_path = g_build_filename (dir, name, NULL);
