@@ -76,24 +76,38 @@ test_axes (void)
   g_assert_true (mp_axis_wants_log (2e-7, 3e-5));
   g_assert_false (mp_axis_wants_log (20, 140));
   g_assert_false (mp_axis_wants_log (0, 140));
-  mp_axis_init (&axis, 3e-7, 2e-5, TRUE);
+  /* Many decades: whole decades. */
+  mp_axis_init (&axis, 3e-12, 2e-6, TRUE);
   mp_axis_nice (&axis, 8);
-  g_assert_cmpfloat_with_epsilon (log10 (axis.min), -7, 1e-9);
-  g_assert_cmpfloat_with_epsilon (log10 (axis.max), -4, 1e-9);
-  mp_axis_set_position (&axis, 100, 0);
-  g_assert_cmpfloat_with_epsilon (mp_axis_map (&axis, 1e-7), 100, 1e-9);
-  g_assert_cmpfloat_with_epsilon (mp_axis_map (&axis, 1e-5), 100.0 / 3, 1e-9);
-  g_assert_cmpfloat_with_epsilon (mp_axis_unmap (&axis, 0), 1e-4, 1e-15);
+  g_assert_cmpfloat_with_epsilon (log10 (axis.min), -12, 1e-9);
+  g_assert_cmpfloat_with_epsilon (log10 (axis.max), -5, 1e-9);
+  mp_axis_set_position (&axis, 70, 0);
+  g_assert_cmpfloat_with_epsilon (mp_axis_map (&axis, 1e-12), 70, 1e-9);
+  g_assert_cmpfloat_with_epsilon (mp_axis_map (&axis, 1e-10), 50, 1e-9);
+  g_assert_cmpfloat_with_epsilon (mp_axis_unmap (&axis, 0), 1e-5, 1e-18);
   g_clear_pointer (&ticks, g_array_unref);
   ticks = mp_axis_major_ticks (&axis, 8);
-  g_assert_cmpuint (ticks->len, ==, 4);
+  g_assert_cmpuint (ticks->len, ==, 8);
   minor = mp_axis_minor_ticks (&axis, 8);
-  g_assert_cmpuint (minor->len, ==, 3 * 8);   /* 2..9 in each of 3 decades */
+  g_assert_cmpuint (minor->len, ==, 7 * 8);   /* 2..9 in each of 7 decades */
   g_clear_pointer (&label, g_free);
   label = mp_axis_format_tick (&axis, 1e-6, 8);
   g_assert_cmpstr (label, ==, "10<sup>\xe2\x88\x92" "6</sup>");
-  one = mp_axis_format_tick (&axis, 100, 8);
+
+  /* Under 2.5 decades: 1, 2, 5 x 10^n, plain numbers. */
+  mp_axis_init (&axis, 3.4, 156, TRUE);
+  mp_axis_nice (&axis, 6);
+  g_assert_cmpfloat_with_epsilon (axis.min, 2, 1e-12);
+  g_assert_cmpfloat_with_epsilon (axis.max, 200, 1e-12);
+  g_clear_pointer (&ticks, g_array_unref);
+  ticks = mp_axis_major_ticks (&axis, 6);
+  g_assert_cmpuint (ticks->len, ==, 7);       /* 2 5 10 20 50 100 200 */
+  g_assert_cmpfloat_with_epsilon (g_array_index (ticks, double, 1), 5, 1e-12);
+  one = mp_axis_format_tick (&axis, 100, 6);
   g_assert_cmpstr (one, ==, "100");
+  g_clear_pointer (&label, g_free);
+  label = mp_axis_format_tick (&axis, 2e-6, 6);
+  g_assert_cmpstr (label, ==, "2\xc3\x97" "10<sup>\xe2\x88\x92" "6</sup>");
 }
 
 /* Hit testing finds steps where they are drawn and nothing in the margin;

@@ -80,6 +80,35 @@ nice_step (double span, int max_ticks)
   return 10 * mag;
 }
 
+/* Log axes over a few decades get ticks at 1, 2 and 5 x 10^n. */
+#define FEW_DECADES 2.5
+
+static gboolean
+log_few_decades (const MpAxis *axis)
+{
+  return axis->log && log10 (axis->max / axis->min) <= FEW_DECADES + 1e-9;
+}
+
+static const double one_two_five[] = { 1, 2, 5 };
+
+static double
+snap_125 (double v, gboolean up)
+{
+  double n = floor (log10 (v) + 1e-9);
+  double best = up ? INFINITY : -INFINITY;
+
+  for (int d = -1; d <= 1; d++)
+    for (int k = 0; k < 3; k++)
+      {
+        double c = one_two_five[k] * pow (10, n + d);
+        if (up && c >= v * (1 - 1e-9) && c < best)
+          best = c;
+        if (!up && c <= v * (1 + 1e-9) && c > best)
+          best = c;
+      }
+  return best;
+}
+
 static int
 decade_stride (const MpAxis *axis, int max_ticks)
 {
@@ -97,8 +126,16 @@ mp_axis_nice (MpAxis *axis, int max_ticks)
 
   if (axis->log)
     {
-      axis->min = pow (10, floor (log10 (axis->min) + 1e-9));
-      axis->max = pow (10, ceil (log10 (axis->max) - 1e-9));
+      if (log10 (axis->max / axis->min) <= FEW_DECADES)
+        {
+          axis->min = snap_125 (axis->min, FALSE);
+          axis->max = snap_125 (axis->max, TRUE);
+        }
+      else
+        {
+          axis->min = pow (10, floor (log10 (axis->min) + 1e-9));
+          axis->max = pow (10, ceil (log10 (axis->max) - 1e-9));
+        }
       if (axis->max <= axis->min)
         axis->max = axis->min * 10;
     }
@@ -176,7 +213,20 @@ mp_axis_major_ticks (const MpAxis *axis, int max_ticks)
 
   g_return_val_if_fail (axis != NULL, ticks);
 
-  if (axis->log)
+  if (log_few_decades (axis))
+    {
+      int lo = (int) floor (log10 (axis->min)) - 1;
+      int hi = (int) ceil (log10 (axis->max));
+
+      for (int n = lo; n <= hi; n++)
+        for (int k = 0; k < 3; k++)
+          {
+            double v = one_two_five[k] * pow (10, n);
+            if (mp_axis_contains (axis, v))
+              g_array_append_val (ticks, v);
+          }
+    }
+  else if (axis->log)
     {
       int stride = decade_stride (axis, max_ticks);
       int lo = (int) ceil (log10 (axis->min) - 1e-9);
@@ -215,7 +265,20 @@ mp_axis_minor_ticks (const MpAxis *axis, int max_ticks)
 
   g_return_val_if_fail (axis != NULL, ticks);
 
-  if (axis->log)
+  if (log_few_decades (axis))
+    {
+      int lo = (int) floor (log10 (axis->min)) - 1;
+      int hi = (int) ceil (log10 (axis->max));
+
+      for (int n = lo; n <= hi; n++)
+        for (int k = 3; k <= 9; k++)
+          {
+            double v = k * pow (10, n);
+            if (k != 5 && mp_axis_contains (axis, v))
+              g_array_append_val (ticks, v);
+          }
+    }
+  else if (axis->log)
     {
       int stride = decade_stride (axis, max_ticks);
       int lo = (int) floor (log10 (axis->min));
@@ -269,17 +332,17 @@ mp_axis_format_tick (const MpAxis *axis, double value, int max_ticks)
 
   if (axis->log)
     {
-      int n = (int) lround (log10 (value));
+      int n = (int) floor (log10 (value) + 1e-9);
+      double mantissa = value / pow (10, n);
+      int m = (int) lround (mantissa);
 
-      if (n >= 0 && n <= 3)
-        return g_strdup_printf ("%.0f", pow (10, n));
-      if (n == -1)
-        return g_strdup ("0.1");
-      if (n == -2)
-        return g_strdup ("0.01");
-      if (n < 0)
-        return g_strdup_printf ("10<sup>\xe2\x88\x92%d</sup>", -n);
-      return g_strdup_printf ("10<sup>%d</sup>", n);
+      if (value >= 0.01 * (1 - 1e-9) && value < 1e4)
+        return g_strdup_printf ("%.*f", MAX (0, -n), value);
+      if (m == 1 || fabs (mantissa - m) > 1e-6)
+        return n < 0 ? g_strdup_printf ("10<sup>\xe2\x88\x92%d</sup>", -n)
+                     : g_strdup_printf ("10<sup>%d</sup>", n);
+      return n < 0 ? g_strdup_printf ("%d\xc3\x97" "10<sup>\xe2\x88\x92%d</sup>", m, -n)
+                   : g_strdup_printf ("%d\xc3\x97" "10<sup>%d</sup>", m, n);
     }
   else
     {

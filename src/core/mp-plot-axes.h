@@ -32,7 +32,8 @@ void mp_axis_init (MpAxis *axis, double min, double max, gboolean log);
 /* TRUE when positive data from min to max should use a log axis. */
 gboolean mp_axis_wants_log (double min, double max);
 /* Widens the range outwards to "nice" tick values (1, 2, 5 x 10^n for
- * linear, whole decades for log), aiming at about max_ticks labels. */
+ * linear; for log, whole decades, or 1, 2, 5 x 10^n when the range spans
+ * at most 2.5 decades), aiming at about max_ticks labels. */
 void mp_axis_nice (MpAxis *axis, int max_ticks);
 void mp_axis_set_position (MpAxis *axis, double pos0, double pos1);
 double mp_axis_map (const MpAxis *axis, double value);
@@ -40,11 +41,14 @@ double mp_axis_unmap (const MpAxis *axis, double pos);
 gboolean mp_axis_contains (const MpAxis *axis, double value);
 
 /* Tick values inside the range (double), at most about max_ticks majors.
- * Minor ticks: 2..9 x 10^n on log axes, subdivisions on linear ones. */
+ * Log axes over at most 2.5 decades have majors at 1, 2, 5 x 10^n.
+ * Minor ticks: the other k x 10^n on log axes, subdivisions on linear
+ * ones. */
 GArray *mp_axis_major_ticks (const MpAxis *axis, int max_ticks);
 GArray *mp_axis_minor_ticks (const MpAxis *axis, int max_ticks);
 /* Pango markup for a tick label. Linear: as many decimals as the tick
- * step needs; log: 1, 10, 100, 1000, else 10<sup>n</sup>. */
+ * step needs; log: plain from 0.01 to 5000, else 10<sup>n</sup> or
+ * 2×10<sup>n</sup>. */
 char *mp_axis_format_tick (const MpAxis *axis, double value, int max_ticks);
 
 /* Ink. */

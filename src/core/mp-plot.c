@@ -249,7 +249,9 @@ geom_mte (PlotGeom *g, cairo_t *cr, const MpPlotInk *ink, const MpPlan *plan,
 
   g->frame = (MpPlotFrame) { 0 };
   mp_axis_init (&g->frame.x_axis, x_lo, x_hi, FALSE);
-  if (mp_axis_wants_log (y_lo, y_hi))
+  /* A log axis as soon as the thermal limits and the high-excess MTE are
+   * a decade apart; otherwise the kT lines crowd at the bottom. */
+  if (y_lo > 0 && y_hi / y_lo >= 10)
     {
       mp_axis_init (&g->frame.y_axis, y_lo * 0.8, y_hi * 1.25, TRUE);
       mp_axis_nice (&g->frame.y_axis, 6);
@@ -646,7 +648,10 @@ draw_mte (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
   cairo_save (cr);
   mp_plot_frame_clip (cr, f);
 
-  /* kT lines: the thermal limit per temperature. */
+  /* kT lines: the thermal limit per temperature. Labels are spread so
+   * that close temperatures do not print over each other. */
+  double label_y[64];
+  int n_labels = 0;
   for (int b = 0; b < n_blocks (schedule); b++)
     {
       double t = get_block (schedule, b)->temperature_K;
@@ -665,8 +670,24 @@ draw_mte (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
       cairo_line_to (cr, f->x + f->width, y);
       cairo_stroke (cr);
       cairo_set_dash (cr, NULL, 0, 0);
-      mp_plot_show_text (cr, ink, label, f->x + f->width - 3, y - 1, 1, 1,
-                         fs * 0.8, 0);
+      {
+        double ly = y - 1, step = fs * 0.95;
+        gboolean moved = TRUE;
+        while (moved)
+          {
+            moved = FALSE;
+            for (int k = 0; k < n_labels; k++)
+              if (fabs (label_y[k] - ly) < step)
+                {
+                  ly = label_y[k] - step;
+                  moved = TRUE;
+                }
+          }
+        if (n_labels < (int) G_N_ELEMENTS (label_y))
+          label_y[n_labels++] = ly;
+        mp_plot_show_text (cr, ink, label, f->x + f->width - 3, ly, 1, 1,
+                           fs * 0.8, 0);
+      }
     }
   /* Model curves. */
   for (int b = 0; b < n_blocks (schedule); b++)
@@ -929,8 +950,7 @@ draw_timeline (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
       cairo_move_to (cr, x, f->y);
       cairo_line_to (cr, x, f->y + f->height);
       cairo_stroke (cr);
-      mp_plot_show_text (cr, ink, t, x - 2, f->y + fs * 1.8, 0, 0, fs * 0.85,
-                         G_PI / 2);
+      mp_plot_show_text (cr, ink, t, x - 3, f->y + fs * 2.4, 1, 0, fs * 0.85, 0);
     }
   /* Cryogen level. */
   mp_plot_set_ink_alpha (cr, ink, 0, 0.85);

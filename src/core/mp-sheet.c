@@ -39,12 +39,12 @@
 #define SIZE_H2 13.0
 
 #define RUNNING_HEAD_H 22.0
-#define FOOTER_H 16.0
+#define FOOTER_H 24.0
 #define ROW_H 21.0
 #define SUBLINE_H 13.0
 #define HEAD_H 27.0
 #define CONT_H 18.0
-#define PLOT_H 235.0
+#define PLOT_H 205.0
 #define CHECKSUM_BOX_W 118.0
 
 #define SYM_SHORT "\xe2\x96\xb2"        /* U+25B2 black up-pointing triangle */
@@ -82,6 +82,7 @@ typedef struct
   int block;
   int row;
   const MpStep *step;
+  const char *range_switch;    /* laser range to switch into, or NULL */
   /* ITEM_PLOT */
   MpPlotKind plot;
   /* placement */
@@ -158,6 +159,7 @@ struct _MpSheet
   char *title;
   GArray *items;              /* Item */
   GArray *pages;              /* Page */
+  int last_range;             /* while laying out: laser range of the last step */
 };
 
 /* Formatting */
@@ -467,7 +469,15 @@ add_header (MpSheet *sheet)
                         "shows time since the shift began, h:mm."));
   add_para (sheet, clock, SIZE_BODY, 1);
 
-  if (sc->feasible)
+  if (sc->feasible && sc->left_out && sc->left_out->len > 0)
+    verdict = g_strdup_printf (_("<b>" SYM_WARN " Fits the budget only with %d steps left out</b> "
+                                 "(listed under \xe2\x80\x9cLeft out of this plan\xe2\x80\x9d). "
+                                 "%d steps planned, %d short, %d unreachable."),
+                               (int) sc->left_out->len,
+                               mp_schedule_count_steps (sc),
+                               mp_schedule_count_status (sc, MP_STEP_SHORT),
+                               mp_schedule_count_status (sc, MP_STEP_UNREACHABLE));
+  else if (sc->feasible)
     verdict = g_strdup_printf (_("<b>The plan fits its budget.</b>  %d steps, %d short, "
                                  "%d unreachable, %d left out."),
                                mp_schedule_count_steps (sc),
@@ -482,7 +492,8 @@ add_header (MpSheet *sheet)
                                mp_schedule_count_status (sc, MP_STEP_SHORT),
                                mp_schedule_count_status (sc, MP_STEP_UNREACHABLE),
                                sc->left_out ? (int) sc->left_out->len : 0);
-  add_para (sheet, verdict, SIZE_BODY, 4)->boxed = !sc->feasible;
+  add_para (sheet, verdict, SIZE_BODY, 4)->boxed =
+    !sc->feasible || (sc->left_out && sc->left_out->len > 0);
   if (sc->policy == MP_OVER_BUDGET_STRETCH && sc->stretch_factor > 1.0001)
     {
       g_autofree char *s = g_strdup_printf (_("Targets loosened by a factor of %.2f "
@@ -530,9 +541,21 @@ add_cautions (MpSheet *sheet)
 /* Blocks */
 
 static double
-row_height (const MpStep *s)
+row_height (const MpStep *s, gboolean range_switch)
 {
-  return ROW_H + (step_is_marked (s) ? SUBLINE_H : 0);
+  return ROW_H + (step_is_marked (s) || range_switch ? SUBLINE_H : 0);
+}
+
+static const char *
+range_name (const MpPlan *plan, int range_index)
+{
+  MpTuningRange *range;
+
+  if (plan->laser.ranges == NULL || range_index < 0
+      || (guint) range_index >= plan->laser.ranges->len)
+    return NULL;
+  range = g_ptr_array_index (plan->laser.ranges, range_index);
+  return range->label ? range->label : _("the other tuning range");
 }
 
 static char *
@@ -574,6 +597,12 @@ add_cut_list (MpSheet *sheet, MpBlock *block)
       g_string_append (s, ".");
     }
   add_para (sheet, s->str, SIZE_BODY, 5);
+}
+
+static gboolean
+plan_has_ranges (const MpPlan *plan)
+{
+  return plan->laser.ranges != NULL && plan->laser.ranges->len > 1;
 }
 
 static void
@@ -630,11 +659,17 @@ add_block (MpSheet *sheet, int b)
   for (guint i = 0; i < block->steps->len; i++)
     {
       const MpStep *s = &g_array_index (block->steps, MpStep, i);
+      gboolean switched = sheet->last_range >= 0 && s->range_index != sheet->last_range
+                          && plan_has_ranges (sheet->plan);
       item = add_item (sheet, ITEM_ROW);
       item->block = b;
       item->row = i;
       item->step = s;
-      item->height = row_height (s);
+      item->range_switch = switched ? range_name (sheet->plan, s->range_index) : NULL;
+      item->height = row_height (s, item->range_switch != NULL);
+      /* No lone last row on a page; the cut-list stays with the table. */
+      item->keep_with_next = i + 2 >= block->steps->len;
+      sheet->last_range = s->range_index;
     }
   if (block->steps->len == 0)
     add_para (sheet, _("No steps in this block."), SIZE_BODY, 4);
@@ -654,15 +689,29 @@ add_left_out (MpSheet *sheet)
   item->keep_with_next = TRUE;
   if (sc->left_out == NULL || sc->left_out->len == 0)
     g_string_append (s, _("Nothing: every planned step is in the tables above."));
-  for (guint i = 0; sc->left_out && i < sc->left_out->len; i++)
+  /* One line per temperature and reason, the wavelengths listed. */
+  for (guint i = 0; sc->left_out && i < sc->left_out->len;)
     {
       MpLeftOut *lo = &g_array_index (sc->left_out, MpLeftOut, i);
       g_autofree char *t = mp_plot_format_temperature (lo->temperature_K);
-      g_autofree char *wl = mp_sheet_format_wavelength_nm (sheet->plan, lo->wavelength_nm);
       g_autofree char *why = g_markup_escape_text (lo->reason ? lo->reason : "", -1);
+      g_autoptr (GString) wls = g_string_new (NULL);
+      guint j = i;
 
-      g_string_append_printf (s, "%s\xe2\x80\xa2 %s" DOT "%s nm (%.3f eV): %s",
-                              i > 0 ? "\n" : "", t, wl, lo->photon_energy_eV, why);
+      for (; j < sc->left_out->len; j++)
+        {
+          MpLeftOut *o = &g_array_index (sc->left_out, MpLeftOut, j);
+          g_autofree char *wl = NULL;
+          if (o->temperature_K != lo->temperature_K
+              || g_strcmp0 (o->reason, lo->reason) != 0)
+            break;
+          wl = mp_sheet_format_wavelength_nm (sheet->plan, o->wavelength_nm);
+          g_string_append_printf (wls, "%s%s", j > i ? ", " : "", wl);
+        }
+      g_string_append_printf (s, "%s\xe2\x80\xa2 <b>%s</b>, %s: %u %s at %s nm",
+                              i > 0 ? "\n" : "", t, why, j - i,
+                              j - i == 1 ? _("step") : _("steps"), wls->str);
+      i = j;
     }
   add_para (sheet, s->str, SIZE_BODY, 3);
 
@@ -735,7 +784,7 @@ add_plots (MpSheet *sheet)
   item->keep_with_next = TRUE;
   item = add_item (sheet, ITEM_PLOT);
   item->plot = MP_PLOT_TIMELINE;
-  item->height = PLOT_H * 0.85;
+  item->height = PLOT_H * 0.82;
   item->space_before = 4;
 }
 
@@ -920,6 +969,7 @@ mp_sheet_new (const MpPlan *plan,
   sheet->pages = g_array_new (FALSE, FALSE, sizeof (Page));
 
   layout_columns (sheet);
+  sheet->last_range = -1;
   add_header (sheet);
   add_cautions (sheet);
   for (guint b = 0; schedule->blocks && b < schedule->blocks->len; b++)
@@ -1073,9 +1123,16 @@ step_cells (MpSheet *sheet, const MpStep *s, char *cells[N_COLS])
 }
 
 static char *
-step_subline (MpSheet *sheet, const MpStep *s)
+step_subline (MpSheet *sheet, const MpStep *s, const char *range_switch)
 {
   const MpDetector *d = &sheet->plan->detector;
+
+  if (range_switch != NULL && s->status == MP_STEP_OK)
+    {
+      g_autofree char *esc = g_markup_escape_text (range_switch, -1);
+      return g_strdup_printf (_("<b>\xe2\x87\x84 LASER RANGE</b>: switch to %s before this step."),
+                              esc);
+    }
 
   if (s->status == MP_STEP_SHORT)
     {
@@ -1169,7 +1226,7 @@ draw_row (MpSheet *sheet, cairo_t *cr, const Item *item)
                  sheet->col_x[N_COLS] - sheet->col_x[COL_MEASURED] - 6, 0);
     }
   {
-    g_autofree char *sub = step_subline (sheet, s);
+    g_autofree char *sub = step_subline (sheet, s, item->range_switch);
     if (sub)
       {
         PangoLayout *layout;
