@@ -18,14 +18,14 @@
  * W by rejection from an envelope h >= w / (1 + e^(w - x)):
  * - x <= 0: h(w) = w e^(x - w), a Gamma(2, 1) shape, drawn as
  *   -ln(U1 U2). The acceptance ratio is 1 / (1 + e^(x - w)), which lies in
- *   [1/(1 + e^x), 1) because w >= 0: accept at once when V is below
- *   1/(1 + e^x) (the squeeze). Efficiency F_1(x) e^(-x) >= F_1(0) = 0.822.
- * - x > 0: h(w) = w on [0, x] (mass x^2/2, drawn as x max(U1, U2)) and
+ *   [1/(1 + e^x), 1) because w >= 0. Efficiency F_1(x) e^(-x) >= F_1(0) = 0.822.
+ * - x > 0: h(w) = w on [0, x] (mass x^2/2, drawn as x sqrt(U)) and
  *   w e^(x - w) beyond (mass x + 1: x + an Exp(1) deviate with weight x,
  *   x + a Gamma(2, 1) deviate with weight 1). The ratios are
  *   1/(1 + e^(w - x)) on [0, x] and 1/(1 + e^(x - w)) beyond, both >= 1/2:
- *   squeeze at 1/2. Efficiency F_1(x) / (x^2/2 + x + 1) >= 1/2, -> 1 as x
- *   grows.
+ *   efficiency F_1(x) / (x^2/2 + x + 1) >= 1/2, -> 1 as x grows.
+ * Every acceptance ratio has the form 1/(1 + e^(-y)) with y >= 0, and a
+ * squeeze from e^y >= 1 + y + y^2/2 spares most exp() calls.
  * Rejection is exact, so the sampled spectrum has exactly the model's
  * moments kT F_2/F_1 and 2 (kT)^2 F_3/F_1 (tests/test-rehearse.c).
  *
@@ -137,7 +137,6 @@ init_node (MpSamplerNode *node, double excess_eV, double kT_eV)
     {
       node->p_triangle = 0.0;
       node->p_exp = 0.0;
-      node->squeeze = 1.0 / (1.0 + exp (x));
     }
   else
     {
@@ -145,7 +144,6 @@ init_node (MpSamplerNode *node, double excess_eV, double kT_eV)
 
       node->p_triangle = a1 / (a1 + a2);
       node->p_exp = x / (x + 1.0);
-      node->squeeze = 0.5;
     }
 }
 
@@ -241,44 +239,66 @@ mp_energy_sampler_init (MpEnergySampler *sampler,
   build_alias_table (sampler, p);
 }
 
-/* W of density proportional to w / (1 + e^(w - x)) (see the top). */
+/* Accept with probability 1 / (1 + e^(-y)), y >= 0, given v uniform.
+ * Squeeze: e^y >= 1 + y + y^2/2, so 1/(1 + e^(-y)) >= (1 + q)/(2 + q)
+ * with q = y + y^2/2; exp() only runs when v falls between the two. */
+static inline gboolean
+accept_logistic (double v, double y)
+{
+  double q = y * (1.0 + 0.5 * y);
+
+  if (v * (2.0 + q) <= 1.0 + q)
+    return TRUE;
+  return v * (1.0 + exp (-y)) <= 1.0;
+}
+
+#define MP_U32 (1.0 / 4294967296.0)
+
+/* W of density proportional to w / (1 + e^(w - x)) (see the top), and
+ * with it the uniform u_out for T = U W. 32-bit uniforms serve where a
+ * resolution of 2^-32 is harmless (acceptance, component choice, the
+ * triangle, U); the logarithms get 53 bits. */
 static inline double
-draw_w (const MpSamplerNode *nd, MpRng *rng)
+draw_w (const MpSamplerNode *nd, MpRng *rng, double *u_out)
 {
   double x = nd->x;
 
   for (;;)
     {
-      double w, v, u;
+      guint64 r1 = mp_rng_next (rng);
+      double v = (r1 >> 32) * MP_U32;
+      double w;
 
+      *u_out = (r1 & 0xffffffffu) * MP_U32;
       if (x <= 0.0)
         {
           w = -log (mp_rng_uniform_pos (rng) * mp_rng_uniform_pos (rng));
-          v = mp_rng_uniform (rng);
-          if (v <= nd->squeeze || v * (1.0 + exp (x - w)) <= 1.0)
+          if (accept_logistic (v, w - x))
             return w;
           continue;
         }
-      u = mp_rng_uniform (rng);
-      v = mp_rng_uniform (rng);
-      if (u < nd->p_triangle)
-        {
-          double a = mp_rng_uniform (rng), b = mp_rng_uniform (rng);
-
-          w = x * MAX (a, b);
-          if (v <= 0.5 || v * (1.0 + exp (w - x)) <= 1.0)
-            return w;
-          continue;
-        }
-      /* Reuse u: given the tail, (u - p_triangle) / (1 - p_triangle) is
-       * uniform on (0, 1). */
-      u = (u - nd->p_triangle) / (1.0 - nd->p_triangle);
-      if (u < nd->p_exp)
-        w = x - log (mp_rng_uniform_pos (rng));
       else
-        w = x - log (mp_rng_uniform_pos (rng) * mp_rng_uniform_pos (rng));
-      if (v <= 0.5 || v * (1.0 + exp (x - w)) <= 1.0)
-        return w;
+        {
+          guint64 r2 = mp_rng_next (rng);
+          double u = (r2 >> 32) * MP_U32;
+
+          if (u < nd->p_triangle)
+            {
+              /* Density 2 w / x^2 on [0, x]: x sqrt(a), a in (0, 1]. */
+              w = x * sqrt (((r2 & 0xffffffffu) + 1.0) * MP_U32);
+              if (accept_logistic (v, x - w))
+                return w;
+              continue;
+            }
+          /* Given the tail, (u - p_triangle) / (1 - p_triangle) is uniform. */
+          u = (u - nd->p_triangle) / (1.0 - nd->p_triangle);
+          if (u < nd->p_exp)
+            w = x - log (mp_rng_uniform_pos (rng));
+          else
+            w = x - log (mp_rng_uniform_pos (rng) * mp_rng_uniform_pos (rng));
+          if (accept_logistic (v, w - x))
+            return w;
+        }
     }
 }
 
@@ -290,7 +310,7 @@ pick_node (const MpEnergySampler *s, MpRng *rng)
 
   if (s->n_nodes == 1)
     return &s->node[0];
-  u = mp_rng_uniform (rng) * s->n_nodes;
+  u = (mp_rng_next (rng) >> 32) * MP_U32 * s->n_nodes;
   i = (int) u;
   if (i >= s->n_nodes)
     i = s->n_nodes - 1;
@@ -301,9 +321,9 @@ double
 mp_energy_sampler_draw (const MpEnergySampler *sampler, MpRng *rng)
 {
   const MpSamplerNode *nd = pick_node (sampler, rng);
-  double w = draw_w (nd, rng);
+  double u, w = draw_w (nd, rng, &u);
 
-  return nd->kT_eV * mp_rng_uniform (rng) * w;
+  return nd->kT_eV * u * w;
 }
 
 /* ---- One measurement ---------------------------------------------------- */
@@ -329,9 +349,9 @@ mp_rehearse_measure_once (const MpStepCounting *step,
 
       for (gint64 i = 0; i < n_s; i++)
         {
-          double w = draw_w (nd, rng);
+          double u, w = draw_w (nd, rng, &u);
 
-          sum += w * mp_rng_uniform (rng);
+          sum += u * w;
         }
       sum *= nd->kT_eV;
     }

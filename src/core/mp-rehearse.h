@@ -57,7 +57,6 @@ typedef struct
   double x;                    /* excess / kT */
   double p_triangle;           /* x > 0: weight of the part w <= x */
   double p_exp;                /* x > 0: weight of the exponential tail */
-  double squeeze;              /* accept without exp() below this */
 } MpSamplerNode;
 
 typedef struct
