@@ -16,6 +16,7 @@
 #include <glib/gi18n.h>
 #include <pango/pangocairo.h>
 
+#include "mp-atomic.h"
 #include "mp-error.h"
 #include "mp-physics.h"
 #include "mp-plot-axes.h"
@@ -1508,7 +1509,6 @@ mp_sheet_write_pdf (const MpPlan *plan,
                     GError **error)
 {
   g_autoptr (GBytes) pdf = NULL;
-  g_autoptr (GError) local = NULL;
   gsize len;
   const char *data;
 
@@ -1518,12 +1518,7 @@ mp_sheet_write_pdf (const MpPlan *plan,
   if (pdf == NULL)
     return FALSE;
   data = g_bytes_get_data (pdf, &len);
-  /* g_file_set_contents writes a temporary file and renames it. */
-  if (!g_file_set_contents (path, data, len, &local))
-    {
-      g_set_error (error, MP_ERROR, MP_ERROR_IO, _("Could not write the run sheet “%s”: %s"),
-                   path, local->message);
-      return FALSE;
-    }
-  return TRUE;
+  /* Temporary file beside the target, then rename: a printer or viewer
+   * never sees half a sheet, and a failed write leaves the old one. */
+  return mp_atomic_write (path, data, len, FALSE, error);
 }
