@@ -253,6 +253,79 @@ test_modified_state (void)
   gtk_window_destroy (GTK_WINDOW (window));
 }
 
+static GtkWindow *
+find_dialog (MpWindow *window)
+{
+  GListModel *toplevels = gtk_window_get_toplevels ();
+
+  for (guint i = 0; i < g_list_model_get_n_items (toplevels); i++)
+    {
+      g_autoptr (GtkWindow) w = g_list_model_get_item (toplevels, i);
+
+      if (GTK_IS_MESSAGE_DIALOG (w) && gtk_window_get_transient_for (w) == GTK_WINDOW (window))
+        return w;
+    }
+  return NULL;
+}
+
+static void
+test_close_prompt (void)
+{
+  MpWindow *window = open_demo ();
+  GtkWindow *dialog;
+  gpointer weak = window;
+
+  g_object_add_weak_pointer (G_OBJECT (window), &weak);
+  gtk_window_present (GTK_WINDOW (window));
+
+  /* Unmodified: closes at once. An edited plan asks first. */
+  gtk_editable_set_text (beam_time_entry (window), "6");
+  gtk_window_close (GTK_WINDOW (window));
+  g_assert_nonnull (weak);
+  dialog = find_dialog (window);
+  g_assert_nonnull (dialog);
+
+  /* Cancel keeps the window and the edit. */
+  gtk_dialog_response (GTK_DIALOG (dialog), GTK_RESPONSE_CANCEL);
+  g_assert_nonnull (weak);
+  g_assert_cmpfloat (mp_document_get_plan (mp_window_get_document (window))->beam_time_h, ==, 6.0);
+
+  /* Close without saving closes it. */
+  gtk_window_close (GTK_WINDOW (window));
+  dialog = find_dialog (window);
+  g_assert_nonnull (dialog);
+  gtk_dialog_response (GTK_DIALOG (dialog), GTK_RESPONSE_REJECT);
+  for (int i = 0; i < 100 && weak != NULL; i++)
+    g_main_context_iteration (NULL, FALSE);
+  g_assert_null (weak);
+}
+
+static void
+test_recovery (void)
+{
+  MpWindow *window = open_demo ();
+  MpDocument *doc = mp_window_get_document (window);
+  g_autofree char *dir = mp_autosave_dir ();
+  g_autofree char *kept = g_build_filename (dir, "autosave-1-1.mteplan", NULL);
+  MpPlan *plan = mp_document_dup_plan (doc);
+  g_autofree char *data = NULL;
+
+  /* A file left by an earlier session (process 1 never runs mteplan). */
+  plan->beam_time_h = 5.5;
+  data = mp_plan_to_data (plan, NULL);
+  mp_plan_free (plan);
+  g_assert_cmpint (g_mkdir_with_parents (dir, 0700), ==, 0);
+  g_assert_true (g_file_set_contents (kept, data, -1, NULL));
+
+  mp_window_offer_recovery (window, kept);
+  mp_window_respond_recovery (window, TRUE);
+  g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 5.5);
+  g_assert_true (mp_document_get_modified (doc));
+  g_assert_false (g_file_test (kept, G_FILE_TEST_EXISTS));
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
 /* Counts distinct colours in a region of an RGBA texture. */
 static guint
 count_colours (GdkTexture *texture, int x0, int y0, int w, int h)
@@ -337,6 +410,8 @@ main (int argc, char *argv[])
   g_test_add_func ("/window/bad-file", test_bad_file);
   g_test_add_func ("/window/undo-redo", test_undo_redo);
   g_test_add_func ("/window/modified-state", test_modified_state);
+  g_test_add_func ("/window/close-prompt", test_close_prompt);
+  g_test_add_func ("/window/recovery", test_recovery);
   g_test_add_func ("/window/renders-without-gpu", test_renders_without_gpu);
   return g_test_run ();
 }

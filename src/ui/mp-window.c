@@ -52,6 +52,7 @@ struct _MpWindow
 G_DEFINE_FINAL_TYPE (MpWindow, mp_window, GTK_TYPE_APPLICATION_WINDOW)
 
 static void save_as (MpWindow *self);
+static gboolean close_idle_cb (gpointer user_data);
 
 static GSettings *
 window_settings (MpWindow *self)
@@ -363,14 +364,21 @@ mp_window_offer_recovery (MpWindow *self, const char *autosave_path)
 static void
 recover_bar_response_cb (GtkInfoBar *bar, int response, MpWindow *self)
 {
+  mp_window_respond_recovery (self, response == GTK_RESPONSE_ACCEPT);
+}
+
+void
+mp_window_respond_recovery (MpWindow *self, gboolean recover)
+{
   g_autofree char *origin_file = NULL;
   g_autofree char *origin = NULL;
 
-  gtk_info_bar_set_revealed (bar, FALSE);
+  g_return_if_fail (MP_IS_WINDOW (self));
+  gtk_info_bar_set_revealed (self->recover_bar, FALSE);
   if (self->recover_path == NULL)
     return;
   origin_file = g_strconcat (self->recover_path, ".origin", NULL);
-  if (response == GTK_RESPONSE_ACCEPT)
+  if (recover)
     {
       g_autoptr (GError) error = NULL;
       MpPlan *plan = mp_plan_load_from_file (self->recover_path, &error);
@@ -558,7 +566,7 @@ save_to (MpWindow *self, const char *path)
   if (self->close_after_save)
     {
       self->closing_confirmed = TRUE;
-      gtk_window_close (GTK_WINDOW (self));
+      g_idle_add_full (G_PRIORITY_DEFAULT_IDLE, close_idle_cb, g_object_ref (self), g_object_unref);
     }
   return TRUE;
 }
@@ -866,14 +874,22 @@ mp_window_enable_action (MpWindow *self, const char *name, GCallback activate, g
 
 /* ---- Closing ---------------------------------------------------------- */
 
+static gboolean
+close_idle_cb (gpointer user_data)
+{
+  gtk_window_close (GTK_WINDOW (user_data));
+  return G_SOURCE_REMOVE;
+}
+
 static void
 close_dialog_response_cb (GtkDialog *dialog, int response, MpWindow *self)
 {
   gtk_window_destroy (GTK_WINDOW (dialog));
   if (response == GTK_RESPONSE_REJECT)
     {
+      /* Closed once the dialog is gone (it is transient for this window). */
       self->closing_confirmed = TRUE;
-      gtk_window_close (GTK_WINDOW (self));
+      g_idle_add_full (G_PRIORITY_DEFAULT_IDLE, close_idle_cb, g_object_ref (self), g_object_unref);
     }
   else if (response == GTK_RESPONSE_ACCEPT)
     {

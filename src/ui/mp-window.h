@@ -28,6 +28,8 @@ void mp_window_set_plan (MpWindow *self, MpPlan *plan);
  * leaves the document untouched. */
 gboolean mp_window_open_file (MpWindow *self, GFile *file);
 void mp_window_offer_recovery (MpWindow *self, const char *autosave_path);
+/* What the Recover / Discard buttons do; both remove the autosave file. */
+void mp_window_respond_recovery (MpWindow *self, gboolean recover);
 void mp_window_enable_action (MpWindow *self, const char *name,
                               GCallback activate, gpointer user_data);
 
