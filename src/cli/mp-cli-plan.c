@@ -25,6 +25,8 @@ typedef struct
   char *paper;
   char *elapsed_h;
   char *cryogen_left_L;
+  char *measured_path;
+  gboolean use_fit;
 } PlanArgs;
 
 typedef struct
@@ -42,6 +44,7 @@ clear_plan_args (PlanArgs *a)
   g_free (a->paper);
   g_free (a->elapsed_h);
   g_free (a->cryogen_left_L);
+  g_free (a->measured_path);
 }
 
 static gboolean
@@ -216,6 +219,7 @@ mp_cli_plan (int argc, char **argv)
   g_autoptr (GOptionContext) ctx = NULL;
   g_autoptr (MpPlan) plan = NULL;
   g_autoptr (MpSchedule) schedule = NULL;
+  g_autoptr (GArray) done = NULL;
   gboolean to_stdout;
   int status;
   GOptionEntry plan_entries[] = {
@@ -225,6 +229,8 @@ mp_cli_plan (int argc, char **argv)
     { "paper", 0, 0, G_OPTION_ARG_STRING, &a.paper, N_("Paper size of the run sheet: a4 or letter"), N_("SIZE") },
     { "elapsed-h", 0, 0, G_OPTION_ARG_STRING, &a.elapsed_h, N_("Beam time already spent, h (re-plan)"), N_("H") },
     { "cryogen-left-L", 0, 0, G_OPTION_ARG_STRING, &a.cryogen_left_L, N_("Liquid left in the dewar now, L (re-plan)"), N_("L") },
+    { "measured", 0, 0, G_OPTION_ARG_FILENAME, &a.measured_path, N_("Measured points (CSV): mark them done, take the elapsed time from them (re-plan)"), N_("DATA.csv") },
+    { "use-fit", 0, 0, G_OPTION_ARG_NONE, &a.use_fit, N_("With --measured: use the work function and QE fitted to the data"), NULL },
     { NULL }
   };
 
@@ -254,6 +260,18 @@ mp_cli_plan (int argc, char **argv)
     {
       clear_plan_args (&a);
       return mp_cli_fail ("%s: %s", argv[1], error->message);
+    }
+  if (a.use_fit && a.measured_path == NULL)
+    {
+      clear_plan_args (&a);
+      return mp_cli_fail (_("plan: --use-fit needs --measured DATA.csv"));
+    }
+  if (a.measured_path != NULL
+      && !mp_cli_plan_apply_measured (a.measured_path, a.use_fit, a.elapsed_h != NULL,
+                                      plan, &in.options, &done, &error))
+    {
+      clear_plan_args (&a);
+      return mp_cli_fail ("%s", error->message);
     }
   schedule = mp_schedule_compute (plan, &in.options, &error);
   if (schedule == NULL)

@@ -20,6 +20,7 @@ typedef struct
 static const MpCliCommand commands[] = {
   { "model", N_("Predict yield, QE shape and MTE at one photon energy"), mp_cli_model },
   { "plan", N_("Schedule a plan within its beam time and cryogen"), mp_cli_plan },
+  { "fit", N_("Fit the work function to measured QE and MTE points"), mp_cli_fit },
   { "rehearse", N_("Simulate a planned shift: counting noise and budget risk"), mp_cli_rehearse },
   { "bench", N_("Measure how fast the model and planner run"), mp_cli_bench },
 };
