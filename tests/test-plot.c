@@ -4,6 +4,7 @@
 #include "config.h"
 
 #include <math.h>
+#include <string.h>
 
 #include <cairo.h>
 #include <glib/gstdio.h>
@@ -119,6 +120,14 @@ test_plots (void)
   g_autoptr (MpSchedule) schedule = schedule_for (plan);
   const double w = 640, h = 400;
   int n_steps = mp_schedule_count_steps (schedule);
+  g_autofree char *tip = mp_plot_step_tooltip (schedule, 1);
+  g_autofree char *no_tip = mp_plot_step_tooltip (schedule, n_steps + 1);
+
+  /* The hover text names the step and its status. */
+  g_assert_nonnull (tip);
+  g_assert_true (g_str_has_prefix (tip, "Step 1"));
+  g_assert_nonnull (strstr (tip, "status: "));
+  g_assert_null (no_tip);
 
   for (int kind = MP_PLOT_QE_RATE; kind <= MP_PLOT_TIMELINE; kind++)
     {

@@ -1141,3 +1141,55 @@ mp_plot_hit_test (MpPlotKind kind,
 {
   return mp_plot_hit_test_full (kind, plan, schedule, NULL, width, height, x, y);
 }
+
+/* Hover text */
+
+static const MpStep *
+find_step (const MpSchedule *schedule, int index, const MpBlock **block_out)
+{
+  for (int b = 0; b < n_blocks (schedule); b++)
+    {
+      MpBlock *block = get_block (schedule, b);
+      for (guint i = 0; i < block->steps->len; i++)
+        {
+          const MpStep *s = &g_array_index (block->steps, MpStep, i);
+          if (s->index == index)
+            {
+              if (block_out)
+                *block_out = block;
+              return s;
+            }
+        }
+    }
+  return NULL;
+}
+
+char *
+mp_plot_step_tooltip (const MpSchedule *schedule, int step_index)
+{
+  const MpStep *s;
+  g_autofree char *t = NULL;
+  const char *status;
+
+  g_return_val_if_fail (schedule != NULL, NULL);
+
+  s = find_step (schedule, step_index, NULL);
+  if (s == NULL)
+    return NULL;
+  t = mp_plot_format_temperature (s->temperature_K);
+  status = s->done ? _("already measured")
+           : s->status == MP_STEP_SHORT ? _("short: dwell capped")
+           : s->status == MP_STEP_UNREACHABLE ? _("unreachable")
+           : _("ok");
+  return g_strdup_printf (_("Step %d%s, %s\n"
+                            "%.4g nm, photon %.4f eV, excess %+.4f eV\n"
+                            "QE %.3g, rate %.4g /s, attenuator OD %.2f\n"
+                            "MTE %.2f meV, goal \xcf\x83 %.3f meV, reaches %.3f meV\n"
+                            "dwell %.0f s, starts at %.2f h\n"
+                            "status: %s"),
+                          s->index, s->kind == MP_STEP_KIND_QE_SWEEP ? _(" (QE sweep)") : "",
+                          t, s->wavelength_nm, s->photon_energy_eV, s->excess_energy_eV,
+                          s->qe, s->signal_rate_per_s, s->optical_density, s->mte_meV,
+                          s->target_sigma_meV, s->reached_sigma_meV, s->dwell_s, s->start_h,
+                          status);
+}

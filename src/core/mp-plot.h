@@ -67,6 +67,10 @@ void mp_plot_draw_full (cairo_t *cr,
                         double width,
                         double height);
 
+/* Plain text with the numbers of one step (schedule-wide index), for a
+ * tooltip on hover; NULL when there is no such step. */
+char *mp_plot_step_tooltip (const MpSchedule *schedule, int step_index);
+
 /* "295 K", "4.2 K". */
 char *mp_plot_format_temperature (double temperature_K);
 

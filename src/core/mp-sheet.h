@@ -21,7 +21,11 @@ typedef struct _MpSheet MpSheet;
 
 /* Lays the sheet out for a page of width x height points (1/72 inch).
  * generated may be NULL (now). The plan's path and checksum go into the
- * header. */
+ * header. The sheet keeps a copy of the plan but only a pointer to the
+ * schedule: keep the schedule alive until the sheet is freed (for
+ * example until a GtkPrintOperation is done). Text is measured without
+ * hinting, so the layout holds on any surface and at any scale; draw on
+ * the thread that made the sheet. */
 MpSheet *mp_sheet_new (const MpPlan *plan,
                        const MpSchedule *schedule,
                        double page_width_pt,
