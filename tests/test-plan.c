@@ -769,6 +769,7 @@ test_atomic_write_keeps_mode (void)
 {
   g_autofree char *dir = make_tmpdir ();
   g_autofree char *path = g_build_filename (dir, "out.csv", NULL);
+  g_autofree char *backup = mp_atomic_backup_path (path);
   GError *error = NULL;
   GStatBuf st;
 
@@ -778,7 +779,8 @@ test_atomic_write_keeps_mode (void)
   g_assert_no_error (error);
   g_assert_cmpint (g_stat (path, &st), ==, 0);
   g_assert_cmpint (st.st_mode & 0777, ==, 0640);
-  g_assert_false (g_file_test (mp_atomic_backup_path (path), G_FILE_TEST_EXISTS));
+  g_assert_true (g_str_has_prefix (backup, path) && g_str_equal (backup + strlen (path), "~"));
+  g_assert_false (g_file_test (backup, G_FILE_TEST_EXISTS));
   remove_tree (dir);
 }
 

@@ -131,6 +131,8 @@ mp_format_double (double value)
     return g_strdup ("NaN");
   if (isinf (value))
     return g_strdup (value > 0 ? "Infinity" : "-Infinity");
+  if (value == 0)
+    return g_strdup ("0");      /* also -0, which reads back as 0 */
   for (int digits = 6; digits <= 17; digits++)
     {
       char format[8];
