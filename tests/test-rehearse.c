@@ -14,6 +14,7 @@
 #include <string.h>
 
 #include "mp-physics.h"
+#include "mp-plot-histogram.h"
 #include "mp-plan.h"
 #include "mp-rehearse.h"
 #include "mp-rng.h"
@@ -493,6 +494,53 @@ test_progress_and_cancel (void)
   free_schedule (schedule);
 }
 
+/* Histogram of the shift totals: every value lands in the bin whose
+ * edges hold it, and the plot draws ink. */
+static void
+test_histogram (void)
+{
+  double values[1000];
+  g_autoptr (MpHistogram) h = NULL;
+  MpHistogramLabels labels = { "total beam time (h)", NULL, 3.3, 3.6 };
+  MpPlotInk ink;
+  cairo_surface_t *surface;
+  cairo_t *cr;
+  guint sum = 0, inked = 0;
+  const guint32 *pixels;
+
+  for (int i = 0; i < 1000; i++)
+    values[i] = 3.0 + 0.5 * sin (i * 0.7) * sin (i * 0.13);
+  values[17] = NAN;
+  h = mp_histogram_new (values, 1000, 0);
+  g_assert_cmpint (h->n_bins, >=, 8);
+  for (int k = 0; k < h->n_bins; k++)
+    sum += h->counts[k];
+  g_assert_cmpuint (sum, ==, 999);
+  g_assert_cmpuint (h->total, ==, 999);
+  for (int i = 0; i < 1000; i++)
+    {
+      int k;
+
+      if (!isfinite (values[i]))
+        continue;
+      k = (int) floor ((values[i] - h->min) / h->width);
+      g_assert_cmpint (k, >=, 0);
+      g_assert_cmpint (k, <, h->n_bins);
+    }
+
+  surface = cairo_image_surface_create (CAIRO_FORMAT_ARGB32, 400, 260);
+  cr = cairo_create (surface);
+  mp_plot_ink_init (&ink, FALSE, FALSE, 10.0);
+  mp_plot_histogram (cr, &ink, h, &labels, 400, 260);
+  cairo_surface_flush (surface);
+  pixels = (const guint32 *) cairo_image_surface_get_data (surface);
+  for (int i = 0; i < 400 * 260; i++)
+    inked += pixels[i] != 0;
+  g_assert_cmpuint (inked, >, 2000);
+  cairo_destroy (cr);
+  cairo_surface_destroy (surface);
+}
+
 int
 main (int argc, char **argv)
 {
@@ -511,5 +559,6 @@ main (int argc, char **argv)
   g_test_add_func ("/rehearse/shift/no-uncertainty", test_shift_no_uncertainty);
   g_test_add_func ("/rehearse/shift/median", test_shift_median);
   g_test_add_func ("/rehearse/progress-and-cancel", test_progress_and_cancel);
+  g_test_add_func ("/rehearse/histogram", test_histogram);
   return g_test_run ();
 }
