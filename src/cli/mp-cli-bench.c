@@ -45,6 +45,8 @@ static const MpBenchSection sections[] = {
   mp_bench_plan_stress,
   mp_bench_rehearse_electrons,
   mp_bench_rehearse_shift,
+  mp_bench_sheet_demo,
+  mp_bench_plot_demo,
 };
 
 int

@@ -64,5 +64,8 @@ void mp_bench_plan_stress (JsonBuilder *builder, gboolean human);
 /* Rehearsal sections (mp-cli-rehearse.c). */
 void mp_bench_rehearse_electrons (JsonBuilder *builder, gboolean human);
 void mp_bench_rehearse_shift (JsonBuilder *builder, gboolean human);
+/* Run sheet and plot sections (mp-cli-bench-sheet.c). */
+void mp_bench_sheet_demo (JsonBuilder *builder, gboolean human);
+void mp_bench_plot_demo (JsonBuilder *builder, gboolean human);
 
 G_END_DECLS
