@@ -326,6 +326,18 @@ test_recovery (void)
   gtk_window_destroy (GTK_WINDOW (window));
 }
 
+static void
+test_shortcuts_window (void)
+{
+  g_autoptr (GtkBuilder) builder =
+    gtk_builder_new_from_resource ("/org/mteplan/Planner/gtk/help-overlay.ui");
+  GObject *overlay = gtk_builder_get_object (builder, "help_overlay");
+
+  /* GtkApplication loads this resource for win.show-help-overlay. */
+  g_assert_true (GTK_IS_SHORTCUTS_WINDOW (overlay));
+  gtk_window_destroy (GTK_WINDOW (overlay));
+}
+
 /* Counts distinct colours in a region of an RGBA texture. */
 static guint
 count_colours (GdkTexture *texture, int x0, int y0, int w, int h)
@@ -411,6 +423,7 @@ main (int argc, char *argv[])
   g_test_add_func ("/window/undo-redo", test_undo_redo);
   g_test_add_func ("/window/modified-state", test_modified_state);
   g_test_add_func ("/window/close-prompt", test_close_prompt);
+  g_test_add_func ("/window/shortcuts-window", test_shortcuts_window);
   g_test_add_func ("/window/recovery", test_recovery);
   g_test_add_func ("/window/renders-without-gpu", test_renders_without_gpu);
   return g_test_run ();

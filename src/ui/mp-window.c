@@ -9,6 +9,7 @@
 #include "mp-application.h"
 #include "mp-plan-editor.h"
 #include "mp-plot-view.h"
+#include "mp-rehearse-dialog.h"
 #include "mp-schedule-view.h"
 #include "mp-sheet.h"
 #include "mp-window.h"
@@ -144,7 +145,7 @@ format_sensitivity (const MpSchedule *schedule, const MpPlan *plan)
   if (!schedule->has_sensitivity)
     return g_strdup (_("φ ± σ: no uncertainty given"));
   /* Low, then high work function, as in the tooltip. */
-  return g_strdup_printf (_("φ ∓ σ: %.1f / %.1f h · %.1f / %.1f L · %d / %d left out"),
+  return g_strdup_printf (_("φ−σ / φ+σ: %.1f / %.1f h · %.1f / %.1f L · %d / %d left out"),
                           lo->beam_time_h, hi->beam_time_h, lo->cryogen_L, hi->cryogen_L,
                           lo->n_left_out, hi->n_left_out);
 }
@@ -1272,6 +1273,7 @@ mp_window_init (MpWindow *self)
                                                                             "import-measured")), FALSE);
   g_simple_action_set_enabled (G_SIMPLE_ACTION (g_action_map_lookup_action (G_ACTION_MAP (self),
                                                                             "rehearse")), FALSE);
+  mp_rehearse_dialog_install (self);
 
   self->document = mp_document_new ();
   g_signal_connect (self->document, "notify::modified", G_CALLBACK (document_state_cb), self);
