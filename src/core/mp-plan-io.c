@@ -393,26 +393,28 @@ read_number_fields (JsonObject *obj, const char *prefix, const MpNumberField *fi
   for (guint i = 0; i < n; i++)
     {
       const MpNumberField *field = &fields[i];
-      g_autofree char *path = g_strconcat (prefix, field->path, NULL);
-      g_autofree char *expected = mp_number_field_expectation (field);
       JsonNode *node;
-      double value;
 
       if (!lookup (obj, prefix, field->path, &node, error))
         return FALSE;
-      if (node == NULL)
+      if (node == NULL && (field->flags & MP_FIELD_OPTIONAL))
         {
-          if (!(field->flags & MP_FIELD_OPTIONAL))
-            return fail_missing (error, path, expected);
           mp_number_field_set (field, base, field->default_value);
           continue;
         }
-      if (!node_is_number (node))
+      if (node_is_number (node) && mp_number_field_accepts (field, json_node_get_double (node)))
+        {
+          mp_number_field_set (field, base, json_node_get_double (node));
+          continue;
+        }
+      {
+        g_autofree char *path = g_strconcat (prefix, field->path, NULL);
+        g_autofree char *expected = mp_number_field_expectation (field);
+
+        if (node == NULL)
+          return fail_missing (error, path, expected);
         return fail_found (error, path, expected, node);
-      value = json_node_get_double (node);
-      if (!mp_number_field_accepts (field, value))
-        return fail_found (error, path, expected, node);
-      mp_number_field_set (field, base, value);
+      }
     }
   return TRUE;
 }
