@@ -158,6 +158,7 @@ test_plots (void)
        * misses some, but most steps must be reachable by the pointer. */
       g_assert_cmpuint (g_hash_table_size (found), >=, (guint) (n_steps / 3));
       g_assert_cmpint (mp_plot_hit_test (kind, plan, schedule, w, h, 1, h - 1), ==, 0);
+      g_assert_cmpint (mp_plot_hit_test (kind, plan, NULL, w, h, w / 2, h / 2), ==, 0);
 
       g_mkdir_with_parents (dir, 0755);
       surface = cairo_image_surface_create (CAIRO_FORMAT_RGB24, (int) w, (int) h);
@@ -166,6 +167,11 @@ test_plots (void)
       cairo_paint (cr);
       mp_plot_style_init (&style);
       style.selected_step = 3;
+      /* No schedule yet (the window before the first plan): axes only. */
+      mp_plot_draw (cr, kind, plan, NULL, &style, w, h);
+      g_assert_cmpint (cairo_status (cr), ==, CAIRO_STATUS_SUCCESS);
+      cairo_set_source_rgb (cr, 1, 1, 1);
+      cairo_paint (cr);
       mp_plot_draw (cr, kind, plan, schedule, &style, w, h);
       g_assert_cmpint (cairo_status (cr), ==, CAIRO_STATUS_SUCCESS);
       g_assert_cmpint (cairo_surface_write_to_png (surface, png), ==, CAIRO_STATUS_SUCCESS);

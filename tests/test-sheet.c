@@ -421,6 +421,51 @@ test_over_budget (void)
   render_pngs (letter, "tight-letter");
 }
 
+/* Odd but valid input: a title with markup characters and no file, a
+ * budget so small that little or nothing is left; the sheet still lays
+ * out, every page draws without a cairo error, and the text is escaped. */
+static void
+test_edge_cases (void)
+{
+  g_autoptr (MpPlan) plan = load_demo ();
+  g_autoptr (MpSchedule) schedule = NULL;
+  g_autoptr (GError) error = NULL;
+  g_autoptr (MpSheet) sheet = NULL;
+  MpScheduleOptions opts;
+  cairo_surface_t *surface;
+  cairo_t *cr;
+  double w, h;
+
+  g_free (plan->title);
+  plan->title = g_strdup ("Cu <100> & \"friends\": a very long title that has to wrap "
+                          "over more than one line of the page, and then some more");
+  g_clear_pointer (&plan->path, g_free);
+  plan->beam_time_h = 0.2;
+  mp_schedule_options_init (&opts);
+  schedule = mp_schedule_compute (plan, &opts, &error);
+  g_assert_no_error (error);
+
+  mp_paper_size_pt (MP_PAPER_LETTER, &w, &h);
+  sheet = mp_sheet_new (plan, schedule, w, h, NULL);
+  g_assert_cmpint (mp_sheet_get_n_pages (sheet), >=, 1);
+  surface = cairo_image_surface_create (CAIRO_FORMAT_RGB24, (int) w, (int) h);
+  cr = cairo_create (surface);
+  for (int i = 0; i < mp_sheet_get_n_pages (sheet); i++)
+    mp_sheet_draw_page (sheet, cr, i);
+  g_assert_cmpint (cairo_status (cr), ==, CAIRO_STATUS_SUCCESS);
+  cairo_destroy (cr);
+  cairo_surface_destroy (surface);
+
+  if (have_poppler ())
+    {
+      g_autofree char *pdf = write_pdf (plan, schedule, MP_PAPER_A4, "sheet-edge.pdf");
+      g_autofree char *text = pdf_text (pdf);
+      g_assert_true (contains (text, "Cu <100> & \"friends\""));
+      g_assert_true (contains (text, "(plan not saved)"));
+      render_pngs (pdf, "edge-a4");
+    }
+}
+
 int
 main (int argc, char **argv)
 {
@@ -436,6 +481,7 @@ main (int argc, char **argv)
   g_test_add_func ("/sheet/clock", test_clock);
   g_test_add_func ("/sheet/done-steps", test_done_steps);
   g_test_add_func ("/sheet/over-budget", test_over_budget);
+  g_test_add_func ("/sheet/edge-cases", test_edge_cases);
   status = g_test_run ();
   g_free (out_dir);
   return status;

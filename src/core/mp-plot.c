@@ -50,7 +50,9 @@ ink_from_style (MpPlotInk *ink, const MpPlotStyle *style)
       mp_plot_style_init (&def);
       style = &def;
     }
-  mp_plot_ink_init (ink, style->dark, style->grey, style->font_size_pt);
+  /* 0: a size that reads well on screen, where a unit is a pixel. */
+  mp_plot_ink_init (ink, style->dark, style->grey,
+                    style->font_size_pt > 0 ? style->font_size_pt : 11);
 }
 
 static double

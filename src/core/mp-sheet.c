@@ -709,24 +709,24 @@ add_left_out (MpSheet *sheet)
           wl = mp_sheet_format_wavelength_nm (sheet->plan, o->wavelength_nm);
           g_string_append_printf (wls, "%s%s", j > i ? ", " : "", wl);
         }
-      g_string_append_printf (s, "%s\xe2\x80\xa2 <b>%s</b>, %s: %u %s at %s nm",
-                              i > 0 ? "\n" : "", t, why, j - i,
-                              j - i == 1 ? _("step") : _("steps"), wls->str);
+      g_string_printf (s, "\xe2\x80\xa2 <b>%s</b>, %s: %u %s at %s nm", t, why, j - i,
+                       j - i == 1 ? _("step") : _("steps"), wls->str);
+      add_para (sheet, s->str, SIZE_BODY, 3);
       i = j;
     }
-  add_para (sheet, s->str, SIZE_BODY, 3);
+  if (s->len > 0 && (sc->left_out == NULL || sc->left_out->len == 0))
+    add_para (sheet, s->str, SIZE_BODY, 3);
 
   if (sc->warnings && sc->warnings->len > 0)
     {
-      g_autoptr (GString) w = g_string_new (NULL);
       item = add_para (sheet, _("<b>Warnings from the planner</b>"), SIZE_BODY, 8);
       item->keep_with_next = TRUE;
       for (guint i = 0; i < sc->warnings->len; i++)
         {
           g_autofree char *esc = g_markup_escape_text (g_ptr_array_index (sc->warnings, i), -1);
-          g_string_append_printf (w, "%s" SYM_WARN " %s", i > 0 ? "\n" : "", esc);
+          g_autofree char *w = g_strdup_printf (SYM_WARN " %s", esc);
+          add_para (sheet, w, SIZE_BODY, 2);
         }
-      add_para (sheet, w->str, SIZE_BODY, 2);
     }
 }
 
