@@ -792,6 +792,19 @@ test_atomic_write_keeps_mode (void)
   g_assert_cmpint (st.st_mode & 0777, ==, 0640);
   g_assert_true (g_str_has_prefix (backup, path) && g_str_equal (backup + strlen (path), "~"));
   g_assert_false (g_file_test (backup, G_FILE_TEST_EXISTS));
+
+  /* Through a symbolic link: the target is replaced, the link stays. */
+  {
+    g_autofree char *link_path = g_build_filename (dir, "link.csv", NULL);
+    g_autofree char *text = NULL;
+
+    g_assert_cmpint (symlink ("out.csv", link_path), ==, 0);
+    g_assert_true (mp_atomic_write (link_path, "newer", 5, FALSE, &error));
+    g_assert_no_error (error);
+    g_assert_true (g_file_test (link_path, G_FILE_TEST_IS_SYMLINK));
+    text = read_file (path);
+    g_assert_cmpstr (text, ==, "newer");
+  }
   remove_tree (dir);
 }
 

@@ -3,6 +3,7 @@
 #include "config.h"
 
 #include <errno.h>
+#include <stdlib.h>
 #include <fcntl.h>
 #include <string.h>
 #include <sys/stat.h>
@@ -99,6 +100,19 @@ mp_atomic_write (const char *path, const char *data, gsize len,
   g_return_val_if_fail (data != NULL || len == 0, FALSE);
   g_return_val_if_fail (error == NULL || *error == NULL, FALSE);
 
+  /* Replace the file a symbolic link points to, not the link. */
+  if (g_file_test (path, G_FILE_TEST_IS_SYMLINK))
+    {
+      char *target = realpath (path, NULL);
+
+      if (target != NULL)
+        {
+          g_autofree char *resolved = g_strdup (target);
+
+          free (target);
+          return mp_atomic_write (resolved, data, len, keep_backup, error);
+        }
+    }
   dir = g_path_get_dirname (path);
   base = g_path_get_basename (path);
   tmp = g_strdup_printf ("%s%c.%s.XXXXXX", dir, G_DIR_SEPARATOR, base);
