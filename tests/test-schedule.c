@@ -679,6 +679,52 @@ test_json_contract (void)
   g_assert_cmpuint (g_strv_length (rows), >, 2);
 }
 
+/* Dense scans use interpolated tables of the bandwidth-averaged emission
+ * (shared with the phi +- sigma re-plans); the nominal steps stay within
+ * 2e-5 of mp_emission_averaged at every step (the documented table error;
+ * tolerance here 5e-5 on QE, MTE and required dwell). */
+static void
+test_dense_scan_matches_direct_model (void)
+{
+  g_autoptr (MpPlan) plan = mp_plan_new_default ();
+  g_autoptr (MpSchedule) s = NULL;
+  MpEmission ref;
+  double phi_eff;
+
+  plan->laser.bandwidth_meV = 5;
+  plan->laser.wavelength_step_nm = 0.001;
+  plan->cathode.work_function_sigma_eV = 0.03;
+  plan->scan.step_eV = 0.001;
+  plan->beam_time_h = 5000;
+  plan->cryostat.budget_L = 5000;
+  s = mp_schedule_compute (plan, NULL, NULL);
+  g_assert_nonnull (s);
+  g_assert_true (s->has_sensitivity);
+  phi_eff = s->effective_work_function_eV;
+  mp_emission_averaged (plan->cathode.qe_ref_photon_energy_eV - phi_eff,
+                        plan->cathode.qe_ref_temperature_K, 5e-3, &ref);
+  g_assert_cmpint (mp_schedule_count_steps (s), >, 1000);
+  for (guint b = 0; b < s->blocks->len; b++)
+    {
+      MpBlock *block = g_ptr_array_index (s->blocks, b);
+
+      for (guint i = 0; i < block->steps->len; i++)
+        {
+          const MpStep *st = &g_array_index (block->steps, MpStep, i);
+          MpEmission em;
+          double qe;
+
+          mp_emission_averaged (st->excess_energy_eV, block->temperature_K, 5e-3, &em);
+          qe = mp_qe_from_reference (plan->cathode.qe_ref, &ref, &em);
+          assert_rel (st->qe, qe, 5e-5);
+          assert_rel (st->mte_meV, em.mte_eV * 1e3 + plan->cathode.extra_mte_meV, 5e-5);
+        }
+    }
+  /* The re-plans ran at phi -+ sigma. */
+  assert_rel (s->sensitivity_low.work_function_eV, 4.59 - 0.03, 1e-12);
+  assert_rel (s->sensitivity_high.work_function_eV, 4.59 + 0.03, 1e-12);
+}
+
 int
 main (int argc, char **argv)
 {
@@ -690,6 +736,7 @@ main (int argc, char **argv)
   g_test_add_func ("/schedule/drop-reasons", test_drop_reasons);
   g_test_add_func ("/schedule/qe-sweep", test_qe_sweep);
   g_test_add_func ("/schedule/json-contract", test_json_contract);
+  g_test_add_func ("/schedule/dense-scan-matches-direct-model", test_dense_scan_matches_direct_model);
   g_test_add_func ("/schedule/properties/budgets", test_properties_budgets);
   g_test_add_func ("/schedule/properties/monotone-drop", test_properties_monotone_drop);
   g_test_add_func ("/schedule/properties/stretch", test_properties_stretch);

@@ -51,11 +51,11 @@
 /* Largest stretch factor tried before the policy gives up. */
 #define MP_STRETCH_MAX 1e6
 /* Emission tables: node spacing in units of max(line width, kT), the
- * largest line width (in kT) where they are used, and how many direct
- * evaluations a table must save (see build_emission_table). */
-#define MP_TABLE_SPACING 0.25
+ * largest line width (in kT) where the nominal plan uses them, and how many
+ * direct evaluations a table must save (see build_emission_table). */
+#define MP_TABLE_SPACING 0.5
 #define MP_TABLE_MAX_WIDTH_KT 3.0
-#define MP_TABLE_MIN_SAVING 3.0
+#define MP_TABLE_MIN_SAVING 1.5
 
 /* The bandwidth-averaged emission of one temperature on a uniform grid of
  * excess energy, interpolated by cubic splines in ln Y, ln MTE and
@@ -63,6 +63,7 @@
  * re-plans. */
 typedef struct
 {
+  gboolean accurate;        /* within 2e-5 of mp_emission_averaged */
   double lo_eV;
   double hi_eV;
   guint n;
@@ -99,6 +100,7 @@ typedef struct
   const MpPlan *plan;
   const MpScheduleOptions *opts;
   GPtrArray *tables;        /* MpEmissionTable* per block (NULL: direct), or NULL */
+  gboolean nominal;         /* the plan itself, not a phi +- sigma re-plan */
   double phi_eV;
   double phi_eff_eV;
   MpEmission ref;
@@ -359,35 +361,47 @@ emission_table_free (gpointer data)
 }
 
 /* A table for one block, or NULL where direct evaluation is better: no
- * line width (the monochromatic model is cheap), a line much wider than
- * kT (the averaged functions are not smooth enough on the grid), or fewer
- * direct evaluations saved than MP_TABLE_MIN_SAVING times the nodes. With
- * nodes 0.25 max(sigma_L, kT) apart the interpolation error is below
- * 1e-6 relative in yield, MTE and variance for 20-300 K and 0.5-20 meV
- * (measured against mp_emission_averaged on a 0.137 meV grid). */
+ * line width (the monochromatic model is cheap) or fewer direct
+ * evaluations saved than MP_TABLE_MIN_SAVING times the nodes. With nodes
+ * 0.5 max(sigma_L, kT) apart and sigma_L <= 3 kT the interpolation error is
+ * below 2e-5 relative in yield, MTE and variance for 4-300 K and
+ * 0.5-20 meV (measured against mp_emission_averaged on a 0.137 meV grid);
+ * such a table is "accurate" and serves the nominal plan. For wider lines
+ * the 48-node Gauss-Hermite average itself is ragged on the scale of kT
+ * (its error against adaptive quadrature reaches 1e-3 at 8 K and 5 meV),
+ * the table follows it only to a few 1e-3, and it serves the phi +- sigma
+ * re-plans only, whose totals are what-ifs. n_nominal and n_replans are
+ * the evaluations each kind of run would make. */
 static MpEmissionTable *
-build_emission_table (const MpPlan *plan, double temperature_K, double n_evaluations)
+build_emission_table (const MpPlan *plan, double temperature_K, double n_nominal,
+                      double n_replans)
 {
   double sigma_L = plan->laser.bandwidth_meV * 1e-3;
   double kT = mp_thermal_energy_eV (temperature_K);
   double h = MP_TABLE_SPACING * MAX (sigma_L, kT);
-  /* Steps move by up to sigma_phi (re-plans) plus a wavelength step's
-   * energy (rounding); the QE sweep spans 2 sigma_phi + 3 kT. */
+  /* The QE sweep spans +-(2 sigma_phi + 3 kT); steps move by up to
+   * sigma_phi (re-plans) plus a wavelength step's energy (rounding); and
+   * lookups stay two nodes inside the ends. */
+  double sweep = plan->scan.qe_sweep_points > 0
+                 ? 2.0 * plan->cathode.work_function_sigma_eV + 3.0 * kT : 0.0;
   double e_max = plan->cathode.work_function_eV + plan->cathode.work_function_sigma_eV
-                 + MAX (plan->scan.excess_max_eV, 3.0 * kT);
-  double margin = plan->cathode.work_function_sigma_eV + 3.0 * kT
-                  + e_max * e_max / MP_HC_EV_NM * plan->laser.wavelength_step_nm;
-  double lo = MIN (plan->scan.excess_min_eV, -3.0 * kT) - margin - 4.0 * h;
-  double hi = MAX (plan->scan.excess_max_eV, 3.0 * kT) + margin + 4.0 * h;
+                 + MAX (plan->scan.excess_max_eV, sweep);
+  double margin = plan->cathode.work_function_sigma_eV
+                  + e_max * e_max / MP_HC_EV_NM * plan->laser.wavelength_step_nm + 3.0 * h;
+  double lo = MIN (plan->scan.excess_min_eV, -sweep) - margin;
+  double hi = MAX (plan->scan.excess_max_eV, sweep) + margin;
+  gboolean accurate = sigma_L <= MP_TABLE_MAX_WIDTH_KT * kT;
+  double n_evaluations = n_replans + (accurate ? n_nominal : 0.0);
   MpEmissionTable *t;
   double n_nodes;
 
-  if (!(sigma_L > 0.0) || sigma_L > MP_TABLE_MAX_WIDTH_KT * kT)
+  if (!(sigma_L > 0.0))
     return NULL;
   n_nodes = ceil ((hi - lo) / h) + 1.0;
   if (!(n_nodes * MP_TABLE_MIN_SAVING <= n_evaluations) || n_nodes > 1e6)
     return NULL;
   t = g_new0 (MpEmissionTable, 1);
+  t->accurate = accurate;
   t->n = (guint) n_nodes;
   t->lo_eV = lo;
   t->hi_eV = lo + (t->n - 1) * h;
@@ -447,12 +461,12 @@ build_emission_tables (const MpPlan *plan, const MpScheduleOptions *opts)
   if (sc->fine_step_eV > 0.0)
     n_steps += 2.0 * (sc->fine_halfwidth_eV + 2.0 * plan->cathode.work_function_sigma_eV)
                / sc->fine_step_eV;
-  n_steps *= opts->no_sensitivity ? 1.0 : 3.0;
+  n_steps += MAX (sc->qe_sweep_points, 0);
   for (guint b = 0; b < plan->temperatures->len; b++)
     g_ptr_array_add (tables,
                      build_emission_table (plan, g_array_index (plan->temperatures,
                                                                 MpTemperatureBlock, b).temperature_K,
-                                           n_steps));
+                                           n_steps, opts->no_sensitivity ? 0.0 : 2.0 * n_steps));
   return tables;
 }
 
@@ -461,6 +475,9 @@ predict_step (MpPlanner *p, const MpBlockWork *bw, MpWork *w)
 {
   double temperature_K = bw->tb->temperature_K;
   const MpEmissionTable *table = p->tables != NULL ? g_ptr_array_index (p->tables, bw->index) : NULL;
+
+  if (table != NULL && p->nominal && !table->accurate)
+    table = NULL;
   const MpPlan *plan = p->plan;
   double pulse_uJ, n_ph, mu_full, mu, mu_cap;
   MpEmission em;
@@ -504,66 +521,62 @@ predict_step (MpPlanner *p, const MpBlockWork *bw, MpWork *w)
   return TRUE;
 }
 
-/* Turns excess energies into steps of one kind, in scan order. */
+/* Turns excess energies into steps of one kind, in scan order: the grid
+ * ascends in excess, so in photon energy, and descending order walks it
+ * backwards. Rounding duplicates are neighbours either way. */
 static void
 add_steps (MpPlanner *p, MpBlockWork *bw, MpStepKind kind, const GArray *grid,
            const char *out_of_range)
 {
   const MpPlan *plan = p->plan;
   double temperature_K = bw->tb->temperature_K;
-  GArray *steps = g_array_sized_new (FALSE, TRUE, sizeof (MpWork), grid->len);
-  gint64 last_k = G_MININT64;
+  gboolean descending = plan->scan.order != MP_SCAN_ASCENDING;
+  gint64 last_k = G_MININT64, last_added_k = G_MININT64;
 
-  /* Ascending excess is descending wavelength index: duplicates after
-   * rounding are neighbours. */
-  for (guint i = 0; i < grid->len; i++)
+  for (guint j = 0; j < grid->len; j++)
     {
-      const MpGridPoint *g = &g_array_index (grid, MpGridPoint, i);
-      MpWork w;
+      const MpGridPoint *g = &g_array_index (grid, MpGridPoint, descending ? grid->len - 1 - j : j);
+      MpWork *w;
+      double wavelength_nm;
       gint64 k;
 
-      memset (&w, 0, sizeof w);
-      w.s.kind = kind;
-      w.s.temperature_K = temperature_K;
-      w.on_coarse_grid = g->coarse;
       if (!(p->phi_eff_eV + g->excess_eV > 0.0))
         continue;
-      k = round_to_wavelength_step (plan, p->phi_eff_eV + g->excess_eV, &w.s.wavelength_nm);
+      k = round_to_wavelength_step (plan, p->phi_eff_eV + g->excess_eV, &wavelength_nm);
       if (k == last_k)
         {
-          if (g->coarse && steps->len > 0)
-            g_array_index (steps, MpWork, steps->len - 1).on_coarse_grid = TRUE;
+          if (g->coarse && k == last_added_k)
+            g_array_index (bw->work, MpWork, bw->work->len - 1).on_coarse_grid = TRUE;
           continue;
         }
       last_k = k;
-      if (!(w.s.wavelength_nm > 0.0))
+      if (!(wavelength_nm > 0.0))
         continue;
-      w.s.photon_energy_eV = mp_photon_energy_eV_from_wavelength_nm (w.s.wavelength_nm);
-      w.s.excess_energy_eV = w.s.photon_energy_eV - p->phi_eff_eV;
-      if (!predict_step (p, bw, &w))
+      g_array_set_size (bw->work, bw->work->len + 1);
+      w = &g_array_index (bw->work, MpWork, bw->work->len - 1);
+      w->s.kind = kind;
+      w->s.temperature_K = temperature_K;
+      w->s.wavelength_nm = wavelength_nm;
+      w->on_coarse_grid = g->coarse;
+      w->s.photon_energy_eV = mp_photon_energy_eV_from_wavelength_nm (wavelength_nm);
+      w->s.excess_energy_eV = w->s.photon_energy_eV - p->phi_eff_eV;
+      if (!predict_step (p, bw, w))
         {
           g_autofree char *reason =
             g_strdup_printf (_("outside the laser's tuning range (%s)"), out_of_range);
 
-          add_left_out (p, temperature_K, w.s.photon_energy_eV, w.s.wavelength_nm, reason);
+          add_left_out (p, temperature_K, w->s.photon_energy_eV, wavelength_nm, reason);
           p->n_out_of_range++;
+          g_array_set_size (bw->work, bw->work->len - 1);
           continue;
         }
       {
-        double z = w.s.excess_energy_eV / bw->band_eV;
+        double z = w->s.excess_energy_eV / bw->band_eV;
 
-        w.weight = 1.0 + 2.0 * exp (-0.5 * z * z);
+        w->weight = 1.0 + 2.0 * exp (-0.5 * z * z);
       }
-      g_array_append_val (steps, w);
+      last_added_k = k;
     }
-  /* The grid ascends in excess, so in photon energy: descending order is
-   * the reverse. */
-  if (plan->scan.order == MP_SCAN_ASCENDING)
-    g_array_append_vals (bw->work, steps->data, steps->len);
-  else
-    for (guint i = steps->len; i-- > 0;)
-      g_array_append_vals (bw->work, &g_array_index (steps, MpWork, i), 1);
-  g_array_unref (steps);
 }
 
 /* The QE sweep: evenly spread over +-(2 sigma_phi + 3 kT) around threshold. */
@@ -620,7 +633,8 @@ generate_steps (MpPlanner *p, GError **error)
 
       bw->tb = &g_array_index (plan->temperatures, MpTemperatureBlock, b);
       bw->index = b;
-      bw->work = g_array_new (FALSE, TRUE, sizeof (MpWork));
+      bw->work = g_array_sized_new (FALSE, TRUE, sizeof (MpWork),
+                                    grid->len + MAX (plan->scan.qe_sweep_points, 0));
       bw->band_eV = near_threshold_band_eV (plan, bw->tb->temperature_K);
       g_ptr_array_add (p->blocks, bw);
       if (plan->scan.qe_sweep_points > 0)
@@ -827,6 +841,7 @@ rank_steps (MpPlanner *p)
 typedef struct
 {
   MpWork *w;
+  double rank;              /* copy of w->rank, for sorting */
   guint block;
   guint pos;
 } MpWorkRef;
@@ -836,9 +851,9 @@ compare_refs_by_rank (gconstpointer a, gconstpointer b)
 {
   const MpWorkRef *ra = a, *rb = b;
 
-  if (ra->w->rank < rb->w->rank)
+  if (ra->rank < rb->rank)
     return -1;
-  if (ra->w->rank > rb->w->rank)
+  if (ra->rank > rb->rank)
     return 1;
   /* Ties: later blocks, then later steps, go first (deterministic). */
   if (ra->block != rb->block)
@@ -907,18 +922,23 @@ typedef struct
   guint n;
   MpWork **step;            /* pending steps in time order */
   guint *block;             /* their block */
+  double *step_s;           /* their retune + dwell */
+  int *range;               /* their tuning range */
+  double *switch_into_s;    /* per tuning range */
+  int *order_pos;           /* timeline position of each step in drop order */
   int *prev, *next;
   double *block_s;          /* per block: settle + retunes + dwells + switches */
   int *block_count;         /* pending steps left per block */
   double total_h, total_L;
 } MpDropState;
 
+/* Switch time from timeline position a to b (-1: none). */
 static double
-switch_between (const MpPlan *plan, const MpWork *from, const MpWork *to)
+switch_between (const MpDropState *st, int a, int b)
 {
-  if (from == NULL || to == NULL || from->s.range_index == to->s.range_index)
+  if (a < 0 || b < 0 || st->range[a] == st->range[b])
     return 0.0;
-  return switch_s (plan, to->s.range_index);
+  return st->switch_into_s[st->range[b]];
 }
 
 static void
@@ -937,6 +957,11 @@ drop_state_init (MpDropState *st, const MpPlanner *p)
     }
   st->step = g_new (MpWork *, MAX (n, 1));
   st->block = g_new (guint, MAX (n, 1));
+  st->step_s = g_new (double, MAX (n, 1));
+  st->range = g_new (int, MAX (n, 1));
+  st->switch_into_s = g_new (double, MAX (p->plan->laser.ranges->len, 1));
+  for (guint r = 0; r < p->plan->laser.ranges->len; r++)
+    st->switch_into_s[r] = switch_s (p->plan, (int) r);
   st->prev = g_new (int, MAX (n, 1));
   st->next = g_new (int, MAX (n, 1));
   st->block_s = g_new0 (double, MAX (p->blocks->len, 1));
@@ -954,6 +979,8 @@ drop_state_init (MpDropState *st, const MpPlanner *p)
           w->timeline_pos = (int) st->n;
           st->step[st->n] = w;
           st->block[st->n] = b;
+          st->step_s[st->n] = p->plan->laser.retune_s + w->s.dwell_s;
+          st->range[st->n] = w->s.range_index;
           st->n++;
         }
     }
@@ -964,6 +991,10 @@ drop_state_clear (MpDropState *st)
 {
   g_free (st->step);
   g_free (st->block);
+  g_free (st->step_s);
+  g_free (st->range);
+  g_free (st->switch_into_s);
+  g_free (st->order_pos);
   g_free (st->prev);
   g_free (st->next);
   g_free (st->block_s);
@@ -984,7 +1015,6 @@ drop_state_account (MpDropState *st, guint b, double delta_s)
 static void
 drop_state_reset (MpDropState *st, const gboolean *excluded)
 {
-  const MpPlan *plan = st->p->plan;
   int last = -1;
 
   st->total_h = st->total_L = 0.0;
@@ -1014,9 +1044,7 @@ drop_state_reset (MpDropState *st, const gboolean *excluded)
       st->prev[t] = last;
       if (last >= 0)
         st->next[last] = (int) t;
-      drop_state_account (st, b, plan->laser.retune_s + st->step[t]->s.dwell_s
-                                 + switch_between (plan, last >= 0 ? st->step[last] : NULL,
-                                                   st->step[t]));
+      drop_state_account (st, b, st->step_s[t] + switch_between (st, last, (int) t));
       last = (int) t;
     }
 }
@@ -1024,16 +1052,17 @@ drop_state_reset (MpDropState *st, const gboolean *excluded)
 static void
 drop_state_remove (MpDropState *st, int t)
 {
-  const MpPlan *plan = st->p->plan;
   int pv = st->prev[t], nx = st->next[t];
-  MpWork *w = st->step[t];
-  MpWork *wp = pv >= 0 ? st->step[pv] : NULL;
-  MpWork *wn = nx >= 0 ? st->step[nx] : NULL;
   guint b = st->block[t];
 
-  drop_state_account (st, b, -(plan->laser.retune_s + w->s.dwell_s + switch_between (plan, wp, w)));
-  if (wn != NULL)
-    drop_state_account (st, st->block[nx], switch_between (plan, wp, wn) - switch_between (plan, w, wn));
+  drop_state_account (st, b, -(st->step_s[t] + switch_between (st, pv, t)));
+  if (nx >= 0)
+    {
+      double delta = switch_between (st, pv, nx) - switch_between (st, t, nx);
+
+      if (delta != 0.0)
+        drop_state_account (st, st->block[nx], delta);
+    }
   if (pv >= 0)
     st->next[pv] = nx;
   if (nx >= 0)
@@ -1065,16 +1094,22 @@ drop_state_search (MpDropState *st, const GArray *order, const gboolean *exclude
 {
   int k = 0;
 
+  if (st->order_pos == NULL)
+    {
+      st->order_pos = g_new (int, MAX (order->len, 1));
+      for (guint i = 0; i < order->len; i++)
+        st->order_pos[i] = g_array_index (order, MpWorkRef, i).w->timeline_pos;
+    }
   drop_state_reset (st, excluded);
   if (drop_state_fits (st))
     return 0;
   for (guint i = 0; i < order->len; i++)
     {
-      const MpWorkRef *ref = &g_array_index (order, MpWorkRef, i);
+      int t = st->order_pos[i];
 
-      if (excluded[ref->block])
+      if (excluded[st->block[t]])
         continue;
-      drop_state_remove (st, ref->w->timeline_pos);
+      drop_state_remove (st, t);
       k++;
       if (drop_state_fits (st))
         return k;
@@ -1175,7 +1210,7 @@ apply_drop (MpPlanner *p)
       for (guint i = 0; i < bw->work->len; i++)
         {
           MpWork *w = &g_array_index (bw->work, MpWork, i);
-          MpWorkRef ref = { w, b, i };
+          MpWorkRef ref = { w, w->rank, b, i };
 
           if (is_pending (bw, w))
             g_array_append_val (order, ref);
@@ -1300,7 +1335,7 @@ apply_policy (MpPlanner *p)
 
 static gboolean
 run_planner (MpPlanner *p, const MpPlan *plan, const MpScheduleOptions *opts,
-             GPtrArray *tables, double work_function_eV, GError **error)
+             GPtrArray *tables, gboolean nominal, double work_function_eV, GError **error)
 {
   double ref_excess;
 
@@ -1308,6 +1343,7 @@ run_planner (MpPlanner *p, const MpPlan *plan, const MpScheduleOptions *opts,
   p->plan = plan;
   p->opts = opts;
   p->tables = tables;
+  p->nominal = nominal;
   p->phi_eV = work_function_eV;
   p->phi_eff_eV = mp_effective_work_function_eV (work_function_eV, plan->cathode.field_MV_per_m);
   p->f_rep_Hz = plan->laser.repetition_rate_kHz * 1e3;
@@ -1610,12 +1646,12 @@ sensitivity_from_schedule (const MpSchedule *s, MpSensitivity *out)
 
 static MpSchedule *
 compute_at (const MpPlan *plan, const MpScheduleOptions *opts, GPtrArray *tables,
-            double work_function_eV, GError **error)
+            gboolean nominal, double work_function_eV, GError **error)
 {
   MpPlanner p;
   MpSchedule *schedule;
 
-  if (!run_planner (&p, plan, opts, tables, work_function_eV, error))
+  if (!run_planner (&p, plan, opts, tables, nominal, work_function_eV, error))
     {
       planner_clear (&p);
       return NULL;
@@ -1664,7 +1700,7 @@ mp_schedule_compute (const MpPlan *plan, const MpScheduleOptions *opts, GError *
     }
 
   tables = build_emission_tables (plan, opts);
-  schedule = compute_at (plan, opts, tables, plan->cathode.work_function_eV, error);
+  schedule = compute_at (plan, opts, tables, TRUE, plan->cathode.work_function_eV, error);
   if (schedule == NULL || opts->no_sensitivity)
     return schedule;
 
@@ -1676,8 +1712,8 @@ mp_schedule_compute (const MpPlan *plan, const MpScheduleOptions *opts, GError *
     g_autoptr (MpSchedule) high = NULL;
 
     sub.no_sensitivity = TRUE;
-    low = compute_at (plan, &sub, tables, phi - sigma, NULL);
-    high = compute_at (plan, &sub, tables, phi + sigma, NULL);
+    low = compute_at (plan, &sub, tables, FALSE, phi - sigma, NULL);
+    high = compute_at (plan, &sub, tables, FALSE, phi + sigma, NULL);
     if (low != NULL && high != NULL)
       {
         sensitivity_from_schedule (low, &schedule->sensitivity_low);
