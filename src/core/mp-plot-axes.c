@@ -641,7 +641,7 @@ mp_plot_frame_layout (MpPlotFrame *frame, cairo_t *cr,
   fs = ink->font_size;
   tick_size = fs * 0.92;
   if (frame->x_ticks <= 0)
-    frame->x_ticks = MAX (3, (int) (width / (fs * 7)));
+    frame->x_ticks = MAX (3, (int) (width / (fs * 5.5)));
   if (frame->y_ticks <= 0)
     frame->y_ticks = MAX (3, (int) (height / (fs * 4)));
 

@@ -688,7 +688,7 @@ draw_mte (cairo_t *cr, const PlotGeom *g, const MpPlotInk *ink,
         if (n_labels < (int) G_N_ELEMENTS (label_y))
           label_y[n_labels++] = ly;
         mp_plot_show_text (cr, ink, label, f->x + f->width - 3, ly, 1, 1,
-                           fs * 0.8, 0);
+                           fs * 0.85, 0);
       }
     }
   /* Model curves. */

@@ -46,6 +46,7 @@
 #define HEAD_H 27.0
 #define CONT_H 18.0
 #define PLOT_H 205.0
+#define PLOT_MIN_H 180.0
 #define CHECKSUM_BOX_W 118.0
 
 #define SYM_SHORT "\xe2\x96\xb2"        /* U+25B2 black up-pointing triangle */
@@ -785,7 +786,7 @@ add_plots (MpSheet *sheet)
   item->keep_with_next = TRUE;
   item = add_item (sheet, ITEM_PLOT);
   item->plot = MP_PLOT_TIMELINE;
-  item->height = PLOT_H * 0.82;
+  item->height = PLOT_H * 0.95;
   item->space_before = 4;
 }
 
@@ -900,6 +901,53 @@ paginate (MpSheet *sheet)
   g_array_append_val (sheet->pages, page);
 }
 
+/* When only the sign-off spills onto a last page, shrink the plots (to no
+ * less than PLOT_MIN_H) so that it fits under them. */
+static void
+avoid_lone_signoff (MpSheet *sheet)
+{
+  Page *last;
+  Item *first, *end;
+  double need, spare, shrink, room;
+  int n_plots = 0;
+
+  if (sheet->pages->len < 2)
+    return;
+  last = &g_array_index (sheet->pages, Page, sheet->pages->len - 1);
+  first = &g_array_index (sheet->items, Item, last->first);
+  if (last->first + 1 != last->last
+      || g_array_index (sheet->items, Item, last->last).kind != ITEM_SIGNOFF)
+    return;
+  end = &g_array_index (sheet->items, Item, last->first - 1);
+  if (end->page != (int) sheet->pages->len - 2)
+    return;
+  need = first->space_before + first->height
+         + g_array_index (sheet->items, Item, last->last).space_before
+         + g_array_index (sheet->items, Item, last->last).height;
+  spare = page_bottom (sheet) - (end->y + end->height);
+  shrink = need - spare + 2;
+  room = 0;
+  for (guint i = 0; i < sheet->items->len; i++)
+    {
+      Item *item = &g_array_index (sheet->items, Item, i);
+      if (item->kind == ITEM_PLOT && item->page == end->page)
+        {
+          room += MAX (0, item->height - PLOT_MIN_H);
+          n_plots++;
+        }
+    }
+  if (n_plots == 0 || shrink > room)
+    return;
+  for (guint i = 0; i < sheet->items->len; i++)
+    {
+      Item *item = &g_array_index (sheet->items, Item, i);
+      if (item->kind == ITEM_PLOT && item->page == end->page)
+        item->height -= MAX (0, item->height - PLOT_MIN_H) * shrink / room;
+    }
+  g_array_set_size (sheet->pages, 0);
+  paginate (sheet);
+}
+
 static void
 layout_columns (MpSheet *sheet)
 {
@@ -981,6 +1029,7 @@ mp_sheet_new (const MpPlan *plan,
   add_signoff (sheet);
   measure_items (sheet);
   paginate (sheet);
+  avoid_lone_signoff (sheet);
   return sheet;
 }
 
@@ -1306,7 +1355,7 @@ draw_plot (MpSheet *sheet, cairo_t *cr, const Item *item)
 
   mp_plot_style_init (&style);
   style.grey = TRUE;
-  style.font_size_pt = 8.5;
+  style.font_size_pt = 9;
   cairo_save (cr);
   cairo_translate (cr, sheet->content_x, item->y);
   mp_plot_draw_full (cr, item->plot, sheet->plan, sheet->schedule, &style,
