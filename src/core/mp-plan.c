@@ -136,7 +136,7 @@ mp_plan_new_default (void)
 
   plan->cathode.label = g_strdup ("Cu(100) crystal");
   plan->cathode.work_function_eV = 4.59;
-  plan->cathode.work_function_sigma_eV = 0.0;
+  plan->cathode.work_function_sigma_eV = 0.02;
   plan->cathode.field_MV_per_m = 1.0;
   plan->cathode.qe_ref_photon_energy_eV = 4.96;
   plan->cathode.qe_ref_temperature_K = 295;
@@ -171,7 +171,7 @@ mp_plan_new_default (void)
   add_block (plan, 120, 45, 6, 0.8);
   add_block (plan, 40, 60, 9, 1.5);
 
-  plan->scan.excess_min_eV = -0.10;
+  plan->scan.excess_min_eV = -0.04;
   plan->scan.excess_max_eV = 0.40;
   plan->scan.step_eV = 0.04;
   plan->scan.fine_step_eV = 0.0;
