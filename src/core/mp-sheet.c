@@ -404,14 +404,12 @@ add_header (MpSheet *sheet)
   title = g_strdup_printf ("<b>%s</b>", esc_title);
   add_item (sheet, ITEM_TITLE)->markup = g_steal_pointer (&title);
 
-  meta = g_strdup_printf (_("Run sheet generated %s" DOT "plan file <b>%s</b>"
-                            DOT "plan checksum <b><tt>%s</tt></b>"),
+  meta = g_strdup_printf (_("Run sheet generated %s · plan file <b>%s</b> · plan checksum <b><tt>%s</tt></b>"),
                           gen, esc_file, sheet->checksum);
   add_para (sheet, meta, SIZE_SMALL, 2);
 
-  cathode = g_strdup_printf (_("<b>Cathode</b>  %s" DOT "work function %.3f "
-                               PLUSMINUS " %.3f eV" DOT "field-lowered %.3f eV"
-                               " (%.1f MV/m, "MINUS"%.3f eV)"),
+  cathode = g_strdup_printf (_("<b>Cathode</b>  %s · work function %.3f ± %.3f eV · field-lowered %.3f eV"
+                               " (%.1f MV/m, −%.3f eV)"),
                              esc_cathode, c->work_function_eV,
                              c->work_function_sigma_eV, phi_eff,
                              c->field_MV_per_m, lowering);
@@ -435,24 +433,21 @@ add_header (MpSheet *sheet)
                               g_array_index (range->points, MpTuningPoint,
                                              range->points->len - 1).wavelength_nm);
     }
-  laser = g_strdup_printf (_("<b>Laser</b>  %s" DOT "%.0f kHz" DOT "line %.0f meV rms"
-                             DOT "retune %.0f s" DOT "step %g nm"),
+  laser = g_strdup_printf (_("<b>Laser</b>  %s · %.0f kHz · line %.0f meV rms · retune %.0f s · step %g nm"),
                            ranges->str, l->repetition_rate_kHz, l->bandwidth_meV,
                            l->retune_s, l->wavelength_step_nm);
   add_para (sheet, laser, SIZE_BODY, 1);
 
-  detector = g_strdup_printf (_("<b>Detector</b>  efficiency %.2f" DOT "at most %g e/pulse"
-                                " and %.0f/s" DOT "dark %g/s" DOT "acceptance %.0f meV"
-                                DOT "resolution %g meV" DOT "systematic %g meV"),
+  detector = g_strdup_printf (_("<b>Detector</b>  efficiency %.2f · at most %g e/pulse"
+                                " and %.0f/s · dark %g/s · acceptance %.0f meV · resolution %g meV · systematic %g meV"),
                               d->efficiency, d->max_electrons_per_pulse,
                               d->max_rate_per_s, d->dark_rate_per_s,
                               d->acceptance_meV, d->resolution_meV,
                               d->systematic_meV);
   add_para (sheet, detector, SIZE_BODY, 1);
 
-  budget = g_strdup_printf (_("<b>Budget</b>  beam time <b>%.1f h</b> planned of %.1f h"
-                              DOT "%s <b>%.1f L</b> planned of %.1f L usable "
-                              "(%.1f L budget "MINUS" %.1f L reserve)" DOT "if over: %s"),
+  budget = g_strdup_printf (_("<b>Budget</b>  beam time <b>%.1f h</b> planned of %.1f h · %s <b>%.1f L</b> planned of %.1f L usable "
+                              "(%.1f L budget − %.1f L reserve) · if over: %s"),
                             sc->beam_time_h, sc->beam_time_available_h,
                             cryogen_name (plan), sc->cryogen_L,
                             sc->cryogen_available_L, plan->cryostat.budget_L,
@@ -472,7 +467,7 @@ add_header (MpSheet *sheet)
   add_para (sheet, clock, SIZE_BODY, 1);
 
   if (sc->feasible && sc->left_out && sc->left_out->len > 0)
-    verdict = g_strdup_printf (_("<b>" SYM_WARN " Fits the budget only with %d steps left out</b> "
+    verdict = g_strdup_printf (_("<b>⚠ Fits the budget only with %d steps left out</b> "
                                  "(listed under \xe2\x80\x9cLeft out of this plan\xe2\x80\x9d). "
                                  "%d steps planned, %d short, %d unreachable."),
                                (int) sc->left_out->len,
@@ -487,7 +482,7 @@ add_header (MpSheet *sheet)
                                mp_schedule_count_status (sc, MP_STEP_UNREACHABLE),
                                sc->left_out ? (int) sc->left_out->len : 0);
   else
-    verdict = g_strdup_printf (_("<b>" SYM_WARN " OVER BUDGET: this plan does not fit.</b>  "
+    verdict = g_strdup_printf (_("<b>⚠ OVER BUDGET: this plan does not fit.</b>  "
                                  "%d steps, %d short, %d unreachable, %d left out. "
                                  "Agree on what to drop before the shift."),
                                mp_schedule_count_steps (sc),
@@ -518,7 +513,7 @@ add_cautions (MpSheet *sheet)
 {
   g_autofree char *text = NULL;
 
-  text = g_strdup_printf ("<b>" SYM_WARN " %s</b>\n"
+  text = g_strdup_printf ("<b>⚠ %s</b>\n"
                           "\xe2\x80\xa2 <b>%s</b> %s\n"
                           "\xe2\x80\xa2 <b>%s</b> %s\n"
                           "\xe2\x80\xa2 <b>%s</b> %s\n"
@@ -566,7 +561,7 @@ block_name (const MpSchedule *sc, int b)
   MpBlock *block = g_ptr_array_index (sc->blocks, b);
   g_autofree char *t = mp_plot_format_temperature (block->temperature_K);
 
-  return g_strdup_printf (_("Block %d of %d" DOT "%s"), b + 1,
+  return g_strdup_printf (_("Block %d of %d · %s"), b + 1,
                           (int) sc->blocks->len, t);
 }
 
@@ -624,8 +619,8 @@ add_block (MpSheet *sheet, int b)
 
   item = add_para (sheet, head, SIZE_H2, 16);
   item->keep_with_next = TRUE;
-  info = g_strdup_printf (_("Target temperature <b>%s</b>" DOT "settle <b>%s</b> before the "
-                            "first step" DOT "block %s \xe2\x80\x93 %s" DOT "%s left: "
+  info = g_strdup_printf (_("Target temperature <b>%s</b> · settle <b>%s</b> before the "
+                            "first step · block %s \xe2\x80\x93 %s · %s left: "
                             "<b>%.1f L</b> at start, <b>%.1f L</b> at end (block uses %.1f L)"),
                           t, settle, start, end, cryogen_name (sheet->plan),
                           block->cryogen_start_L, block->cryogen_end_L,
@@ -644,9 +639,9 @@ add_block (MpSheet *sheet, int b)
     {
       g_autoptr (GString) legend = g_string_new (_("Marks: "));
       if (any_short)
-        g_string_append (legend, _(SYM_SHORT " short (dwell capped, goal not reached)   "));
+        g_string_append (legend, _("▲ short (dwell capped, goal not reached)   "));
       if (any_unreach)
-        g_string_append (legend, _(SYM_UNREACHABLE " unreachable (goal cannot be met)   "));
+        g_string_append (legend, _("✕ unreachable (goal cannot be met)   "));
       if (any_qe)
         g_string_append (legend, _("Q  QE-sweep step (yield only)"));
       item = add_para (sheet, legend->str, SIZE_SMALL, 2);
@@ -774,7 +769,7 @@ add_plots (MpSheet *sheet)
                                          cryogen_name (sheet->plan));
 
   item = add_para (sheet, _("<b>Predicted MTE vs excess energy</b>: one curve per "
-                            "temperature, bars " PLUSMINUS " the goal \xcf\x83, "
+                            "temperature, bars ± the goal \xcf\x83, "
                             "dotted: kT"), SIZE_BODY, 16);
   item->keep_with_next = TRUE;
   item = add_item (sheet, ITEM_PLOT);
@@ -1071,10 +1066,10 @@ draw_running_head (MpSheet *sheet, cairo_t *cr, int page)
   g_autofree char *left = g_strdup_printf ("<b>%s</b>", esc);
   g_autofree char *right = g_strdup_printf (_("<b>page %d of %d</b>"), page + 1,
                                             (int) sheet->pages->len);
-  g_autofree char *foot_l = g_strdup_printf (_("plan file %s" DOT "checksum %s"),
+  g_autofree char *foot_l = g_strdup_printf (_("plan file %s · checksum %s"),
                                              sheet->file_name, sheet->checksum);
   g_autofree char *gen = g_date_time_format (sheet->generated, "%Y-%m-%d %H:%M");
-  g_autofree char *foot_r = g_strdup_printf (_("generated %s" DOT "page %d of %d"),
+  g_autofree char *foot_r = g_strdup_printf (_("generated %s · page %d of %d"),
                                              gen, page + 1, (int) sheet->pages->len);
   g_autofree char *esc_foot_l = g_markup_escape_text (foot_l, -1);
   PangoLayout *layout;
@@ -1188,19 +1183,19 @@ step_subline (MpSheet *sheet, const MpStep *s, const char *range_switch)
     {
       g_autofree char *dw = format_dwell (s->dwell_s);
       if (!isfinite (s->reached_sigma_meV) || s->reached_sigma_meV > 100 * s->target_sigma_meV)
-        return g_strdup_printf (_("<b>" SYM_SHORT " SHORT</b>: dwell capped at %s; signal "
+        return g_strdup_printf (_("<b>▲ SHORT</b>: dwell capped at %s; signal "
                                   "too weak for the %.2f meV goal."),
                                 dw, s->target_sigma_meV);
-      return g_strdup_printf (_("<b>" SYM_SHORT " SHORT</b>: dwell capped at %s; reaches "
+      return g_strdup_printf (_("<b>▲ SHORT</b>: dwell capped at %s; reaches "
                                 "\xcf\x83 %.2f meV, goal was %.2f meV."),
                               dw, s->reached_sigma_meV, s->target_sigma_meV);
     }
   if (s->status == MP_STEP_UNREACHABLE)
     {
       if (!(s->signal_rate_per_s > 0))
-        return g_strdup (_("<b>" SYM_UNREACHABLE " UNREACHABLE</b>: no signal expected here. "
+        return g_strdup (_("<b>✕ UNREACHABLE</b>: no signal expected here. "
                            "Measure only if time is left over."));
-      return g_strdup_printf (_("<b>" SYM_UNREACHABLE " UNREACHABLE</b>: systematic floor "
+      return g_strdup_printf (_("<b>✕ UNREACHABLE</b>: systematic floor "
                                 "%.2f meV is above the goal %.2f meV. Measure only if time "
                                 "is left over."), d->systematic_meV, s->target_sigma_meV);
     }
