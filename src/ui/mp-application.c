@@ -167,7 +167,7 @@ offer_recovery (MpApplication *self, MpWindow *window)
 {
   g_autofree char *path = NULL;
 
-  if (self->recovery_offered || g_getenv ("MTEPLAN_SCREENSHOT") != NULL)
+  if (self->recovery_offered)
     return;
   self->recovery_offered = TRUE;
   path = find_autosave ();

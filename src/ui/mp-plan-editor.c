@@ -651,7 +651,7 @@ build_simple_page (MpPlanEditor *self, const char *name, const char *title,
       GtkWidget *label = gtk_label_new (intro);
 
       gtk_label_set_wrap (GTK_LABEL (label), TRUE);
-      gtk_label_set_max_width_chars (GTK_LABEL (label), 44);
+      gtk_label_set_max_width_chars (GTK_LABEL (label), 34);
       gtk_label_set_xalign (GTK_LABEL (label), 0.0);
       gtk_widget_add_css_class (label, "dim-label");
       gtk_box_append (GTK_BOX (box), label);
@@ -816,7 +816,7 @@ fill_blocks_grid (MpPlanEditor *self, const MpPlan *plan)
         {
           Field *field = field_new (self, desc, r);
 
-          gtk_editable_set_width_chars (GTK_EDITABLE (field->entry), 6);
+          gtk_editable_set_width_chars (GTK_EDITABLE (field->entry), 4);
           set_row_accessible_label (field, _("Block"), r);
           g_ptr_array_add (self->row_fields, field);
           gtk_grid_attach (grid, field->entry, col, grid_row, 1, 1);
@@ -864,7 +864,7 @@ build_cryostat_page (MpPlanEditor *self)
   label = gtk_label_new (_("Measured in this order. Cool-down is the liquid used to reach "
                            "the temperature, hold the liquid used per hour while there."));
   gtk_label_set_wrap (GTK_LABEL (label), TRUE);
-  gtk_label_set_max_width_chars (GTK_LABEL (label), 44);
+  gtk_label_set_max_width_chars (GTK_LABEL (label), 34);
   gtk_label_set_xalign (GTK_LABEL (label), 0.0);
   gtk_widget_add_css_class (label, "dim-label");
   gtk_box_append (GTK_BOX (box), label);

@@ -10,6 +10,7 @@
 #include "mp-plan-editor.h"
 #include "mp-plot-view.h"
 #include "mp-rehearse-dialog.h"
+#include "mp-refit-dialog.h"
 #include "mp-schedule-view.h"
 #include "mp-sheet.h"
 #include "mp-window.h"
@@ -186,16 +187,25 @@ update_status (MpWindow *self)
     g_string_append_printf (text, _("  ·  targets loosened ×%.2f"), schedule->stretch_factor);
   gtk_label_set_text (self->status_label, text->str);
 
-  if (schedule->warnings != NULL && schedule->warnings->len > 0)
-    {
-      g_autoptr (GString) tip = g_string_new (text->str);
+  {
+    g_autoptr (GString) tip = g_string_new (text->str);
 
-      for (guint i = 0; i < schedule->warnings->len; i++)
-        g_string_append_printf (tip, "\n• %s", (const char *) g_ptr_array_index (schedule->warnings, i));
-      gtk_widget_set_tooltip_text (GTK_WIDGET (self->status_label), tip->str);
-    }
-  else
-    gtk_widget_set_tooltip_text (GTK_WIDGET (self->status_label), text->str);
+    for (guint i = 0; schedule->warnings != NULL && i < schedule->warnings->len; i++)
+      g_string_append_printf (tip, "\n• %s", (const char *) g_ptr_array_index (schedule->warnings, i));
+    if (n_left_out > 0)
+      g_string_append (tip, _("\nLeft out:"));
+    for (int i = 0; i < n_left_out && i < 12; i++)
+      {
+        const MpLeftOut *left = &g_array_index (schedule->left_out, MpLeftOut, i);
+
+        g_string_append_printf (tip, _("\n  %.0f K, %.4f eV (%.1f nm): %s"), left->temperature_K,
+                                left->photon_energy_eV, left->wavelength_nm,
+                                left->reason != NULL ? left->reason : "");
+      }
+    if (n_left_out > 12)
+      g_string_append_printf (tip, _("\n  … and %d more"), n_left_out - 12);
+    gtk_widget_set_tooltip_text (GTK_WIDGET (self->status_label), tip->str);
+  }
 
   sensitivity = format_sensitivity (schedule, mp_document_get_schedule_plan (self->document));
   gtk_label_set_text (self->sensitivity_label, sensitivity);
@@ -1065,6 +1075,15 @@ add_plots (MpWindow *self)
 
 /* ---- Screenshots (MTEPLAN_SCREENSHOT=file.png) ------------------------ */
 
+static void
+select_screenshot_step_cb (MpDocument *document, MpWindow *self)
+{
+  int step = GPOINTER_TO_INT (g_object_get_data (G_OBJECT (self), "screenshot-step"));
+
+  if (step > 0)
+    mp_schedule_view_set_selected_step (self->schedule_view, step);
+}
+
 static gboolean
 screenshot_cb (gpointer user_data)
 {
@@ -1084,6 +1103,13 @@ screenshot_cb (gpointer user_data)
   if ((mp_document_get_busy (self->document) || mp_document_get_schedule_serial (self->document) == 0)
       && tries++ < 40)
     return G_SOURCE_CONTINUE;
+  if (g_object_get_data (G_OBJECT (self), "screenshot-step") != NULL)
+    {
+      /* Select the step now that the table is on screen, shoot next tick. */
+      select_screenshot_step_cb (self->document, self);
+      g_object_set_data (G_OBJECT (self), "screenshot-step", NULL);
+      return G_SOURCE_CONTINUE;
+    }
   gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), width, height);
   node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
   /* Not drawn yet: try again at the next tick. */
@@ -1125,15 +1151,6 @@ setup_screenshot (MpWindow *self)
   if (step != NULL)
     g_object_set_data (G_OBJECT (self), "screenshot-step", GINT_TO_POINTER (atoi (step)));
   g_timeout_add (1500, screenshot_cb, self);
-}
-
-static void
-select_screenshot_step_cb (MpDocument *document, MpWindow *self)
-{
-  int step = GPOINTER_TO_INT (g_object_get_data (G_OBJECT (self), "screenshot-step"));
-
-  if (step > 0)
-    mp_schedule_view_set_selected_step (self->schedule_view, step);
 }
 
 /* ---- Recent menu ------------------------------------------------------ */
@@ -1274,6 +1291,7 @@ mp_window_init (MpWindow *self)
   g_simple_action_set_enabled (G_SIMPLE_ACTION (g_action_map_lookup_action (G_ACTION_MAP (self),
                                                                             "rehearse")), FALSE);
   mp_rehearse_dialog_install (self);
+  mp_refit_dialog_install (self);
 
   self->document = mp_document_new ();
   g_signal_connect (self->document, "notify::modified", G_CALLBACK (document_state_cb), self);
@@ -1283,7 +1301,6 @@ mp_window_init (MpWindow *self)
   g_signal_connect (self->document, "notify::busy", G_CALLBACK (busy_cb), self);
   g_signal_connect (self->document, "plan-changed", G_CALLBACK (plan_changed_cb), self);
   g_signal_connect (self->document, "schedule-changed", G_CALLBACK (schedule_changed_cb), self);
-  g_signal_connect (self->document, "schedule-changed", G_CALLBACK (select_screenshot_step_cb), self);
 
   mp_plan_editor_set_document (self->editor, self->document);
   mp_schedule_view_set_document (self->schedule_view, self->document);
