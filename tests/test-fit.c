@@ -6,6 +6,7 @@
 
 #include "mp-error.h"
 #include "mp-fit.h"
+#include "mp-fit-plot.h"
 #include "mp-physics.h"
 #include "mp-plan.h"
 
@@ -295,8 +296,14 @@ test_fowler_plot_of_fit (void)
       const MpFitResidual *res = &g_array_index (fit->residuals, MpFitResidual, i);
 
       g_assert_cmpfloat (fabs (r), <, 4.0 * 0.02);
+      double px, py;
+
       /* The fit's own residual is the same number. */
       g_assert_cmpfloat_with_epsilon (res->residual, r, 1e-8);
+      /* And the window's Fowler plot puts the point at the same place. */
+      mp_fit_plot_fowler_point (fit, res, &px, &py);
+      g_assert_cmpfloat_with_epsilon (px, x, 1e-9);
+      g_assert_cmpfloat_with_epsilon (log (py) - log (fowler_f (px)), r, 1e-8);
       sum2 += r * r;
     }
   g_assert_cmpfloat (sqrt (sum2 / data->points->len), <, 1.5 * 0.02);

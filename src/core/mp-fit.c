@@ -783,6 +783,7 @@ fill_residuals (const FitProblem *fp, const double *x, MpFitResult *r)
 
       res.kind = o->kind;
       res.temperature_K = o->temperature_K;
+      res.model_temperature_K = obs_temperature_K (fp, o, x);
       res.photon_energy_eV = o->photon_energy_eV;
       res.excess_energy_eV = o->photon_energy_eV - (x[P_PHI] - fp->schottky_eV);
       res.residual = o->y - m;

@@ -39,6 +39,7 @@ typedef struct
 {
   MpFitResidualKind kind;
   double temperature_K;
+  double model_temperature_K;     /* used by the model: T, or T_eff of its block */
   double photon_energy_eV;
   double excess_energy_eV;        /* E - fitted phi_eff */
   double measured;                /* qe, or mte in meV */

@@ -192,10 +192,17 @@ resolve_photon_energy (const ReaderState *st, char **fields,
                        MpMeasuredPoint *p, GError **error)
 {
   double energy = NAN, wavelength = NAN;
+  int ie = st->index[COL_PHOTON_ENERGY], iw = st->index[COL_WAVELENGTH];
 
-  if (!read_cell (st, fields, COL_PHOTON_ENERGY, &energy, error) ||
+  /* With both columns, one of the two cells may be empty. */
+  if (ie >= 0 && !(iw >= 0 && *fields[ie] == '\0') &&
+      !read_cell (st, fields, COL_PHOTON_ENERGY, &energy, error))
+    return FALSE;
+  if (iw >= 0 && !(ie >= 0 && *fields[iw] == '\0') &&
       !read_cell (st, fields, COL_WAVELENGTH, &wavelength, error))
     return FALSE;
+  if (isnan (energy) && isnan (wavelength))
+    return fail_cell (st, COL_PHOTON_ENERGY, "", error);
   if (isnan (energy))
     energy = mp_photon_energy_eV_from_wavelength_nm (wavelength);
   else if (!isnan (wavelength) &&
