@@ -419,6 +419,21 @@ test_over_budget (void)
     g_assert_true (contains (text, "OVER BUDGET"));
   render_pngs (a4, "tight-a4");
   render_pngs (letter, "tight-letter");
+
+  /* The same plan under the stretch policy says by how much the goals
+   * were loosened. */
+  plan->over_budget = MP_OVER_BUDGET_STRETCH;
+  {
+    g_autoptr (MpSchedule) stretched = schedule_for (plan);
+    g_autofree char *pdf = write_pdf (plan, stretched, MP_PAPER_A4, "sheet-tight-stretch.pdf");
+    g_autofree char *stext = pdf_text (pdf);
+    if (stretched->stretch_factor > 1.0001)
+      {
+        g_autofree char *factor = g_strdup_printf ("loosened by a factor of %.2f",
+                                                   stretched->stretch_factor);
+        g_assert_true (contains (stext, factor));
+      }
+  }
 }
 
 /* Odd but valid input: a title with markup characters and no file, a

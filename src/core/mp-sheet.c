@@ -474,6 +474,14 @@ add_header (MpSheet *sheet)
                                mp_schedule_count_steps (sc),
                                mp_schedule_count_status (sc, MP_STEP_SHORT),
                                mp_schedule_count_status (sc, MP_STEP_UNREACHABLE));
+  else if (sc->feasible && sc->stretch_factor > 1.0001)
+    verdict = g_strdup_printf (_("<b>⚠ Fits the budget only with every goal σ loosened "
+                                 "by a factor of %.2f</b> (policy stretch; the goal column "
+                                 "shows the loosened goals). %d steps, %d short, "
+                                 "%d unreachable."),
+                               sc->stretch_factor, mp_schedule_count_steps (sc),
+                               mp_schedule_count_status (sc, MP_STEP_SHORT),
+                               mp_schedule_count_status (sc, MP_STEP_UNREACHABLE));
   else if (sc->feasible)
     verdict = g_strdup_printf (_("<b>The plan fits its budget.</b>  %d steps, %d short, "
                                  "%d unreachable, %d left out."),
@@ -490,14 +498,7 @@ add_header (MpSheet *sheet)
                                mp_schedule_count_status (sc, MP_STEP_UNREACHABLE),
                                sc->left_out ? (int) sc->left_out->len : 0);
   add_para (sheet, verdict, SIZE_BODY, 4)->boxed =
-    !sc->feasible || (sc->left_out && sc->left_out->len > 0);
-  if (sc->policy == MP_OVER_BUDGET_STRETCH && sc->stretch_factor > 1.0001)
-    {
-      g_autofree char *s = g_strdup_printf (_("Targets loosened by a factor of %.2f "
-                                              "to fit the budget (policy stretch)."),
-                                            sc->stretch_factor);
-      add_para (sheet, s, SIZE_BODY, 1);
-    }
+    !sc->feasible || (sc->left_out && sc->left_out->len > 0) || sc->stretch_factor > 1.0001;
 }
 
 static const char *
