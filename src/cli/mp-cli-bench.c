@@ -43,6 +43,7 @@ static const MpBenchSection sections[] = {
   bench_model,
   mp_bench_plan_demo,
   mp_bench_plan_stress,
+  mp_bench_fit,
   mp_bench_rehearse_electrons,
   mp_bench_rehearse_shift,
   mp_bench_sheet_demo,

@@ -304,3 +304,80 @@ mp_cli_plan_apply_measured (const char *data_path,
     fprintf (stderr, _("mteplan-cli: %u measured points\n"), data->points->len);
   return TRUE;
 }
+
+/* ---- bench sections ------------------------------------------------------ */
+
+static double
+time_fit_ms (const MpPlan *plan, const MpMeasuredData *data, int runs)
+{
+  double best = INFINITY;
+
+  for (int i = 0; i < runs; i++)
+    {
+      gint64 t0 = g_get_monotonic_time ();
+      g_autoptr (MpFitResult) fit = mp_fit_measured (plan, data, NULL, NULL, NULL);
+
+      if (fit == NULL)
+        return NAN;
+      best = MIN (best, (g_get_monotonic_time () - t0) * 1e-3);
+    }
+  return best;
+}
+
+/* n QE points over -0.05 .. +0.35 eV at 295, 120 and 40 K, drawn from the
+ * plan's model with a 2 % wobble. */
+static MpMeasuredData *
+make_bench_data (const MpPlan *plan, int n)
+{
+  MpMeasuredData *data = g_new0 (MpMeasuredData, 1);
+  double phi_eff = mp_effective_work_function_eV (plan->cathode.work_function_eV,
+                                                  plan->cathode.field_MV_per_m);
+  static const double temps[] = { 295.0, 120.0, 40.0 };
+
+  data->name = g_strdup ("bench");
+  data->points = g_array_new (FALSE, TRUE, sizeof (MpMeasuredPoint));
+  for (int i = 0; i < n; i++)
+    {
+      MpMeasuredPoint p = { 0 };
+      MpEmission em;
+      double excess = -0.05 + 0.40 * i / MAX (n - 1, 1);
+
+      p.temperature_K = temps[i % 3];
+      p.photon_energy_eV = phi_eff + excess;
+      mp_emission_averaged (excess, p.temperature_K, 1e-3 * plan->laser.bandwidth_meV, &em);
+      p.qe = 1e-4 * exp (em.log_yield + 0.02 * sin (7.0 * i));
+      p.qe_sigma = p.mte_meV = p.mte_sigma_meV = p.electrons = p.elapsed_h = NAN;
+      p.line = i + 2;
+      g_array_append_val (data->points, p);
+    }
+  return data;
+}
+
+void
+mp_bench_fit (JsonBuilder *b, gboolean human)
+{
+  g_autofree char *plan_path = g_build_filename (MP_SOURCE_DIR, "data", "examples",
+                                                 "cold-copper-shift.mteplan", NULL);
+  g_autofree char *data_path = g_build_filename (MP_SOURCE_DIR, "tests", "data", "measured",
+                                                 "cold-copper-first-points.csv", NULL);
+  g_autoptr (MpPlan) plan = mp_plan_load_from_file (plan_path, NULL);
+  g_autoptr (MpMeasuredData) demo = mp_measured_load_from_file (data_path, NULL);
+  g_autoptr (MpMeasuredData) many = NULL;
+  double demo_ms = NAN, many_ms;
+
+  if (plan == NULL)
+    plan = mp_plan_new_default ();
+  if (demo != NULL)
+    demo_ms = time_fit_ms (plan, demo, 5);
+  many = make_bench_data (plan, 3000);
+  many_ms = time_fit_ms (plan, many, 1);
+  json_builder_set_member_name (b, "fit_demo_ms");
+  json_builder_add_double_value (b, isfinite (demo_ms) ? demo_ms : -1.0);
+  json_builder_set_member_name (b, "fit_3000_points_ms");
+  json_builder_add_double_value (b, isfinite (many_ms) ? many_ms : -1.0);
+  if (human)
+    {
+      printf ("%-36s %14.1f\n", _("fit of the demo data (25 values), ms"), demo_ms);
+      printf ("%-36s %14.1f\n", _("fit of 3000 QE points, ms"), many_ms);
+    }
+}

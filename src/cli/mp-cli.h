@@ -58,6 +58,9 @@ int mp_cli_rehearse (int argc, char **argv);
  * builder (inside an open object) and prints a line when human is TRUE. */
 typedef void (*MpBenchSection) (JsonBuilder *builder, gboolean human);
 
+/* Refit section (mp-cli-fit.c). */
+void mp_bench_fit (JsonBuilder *builder, gboolean human);
+
 /* Planner sections (mp-cli-bench-plan.c). */
 void mp_bench_plan_demo (JsonBuilder *builder, gboolean human);
 void mp_bench_plan_stress (JsonBuilder *builder, gboolean human);
