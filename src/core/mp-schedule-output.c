@@ -150,15 +150,20 @@ mp_schedule_to_json (const MpSchedule *schedule)
       add_number (b, "temperature_K", lo->temperature_K);
       add_number (b, "photon_energy_eV", lo->photon_energy_eV);
       add_number (b, "wavelength_nm", lo->wavelength_nm);
-      add_string (b, "reason", lo->reason);
+      add_string (b, "reason", lo->reason_c != NULL ? lo->reason_c : lo->reason);
       json_builder_end_object (b);
     }
   json_builder_end_array (b);
 
+  /* Untranslated, so that the JSON is the same in every language. */
   json_builder_set_member_name (b, "warnings");
   json_builder_begin_array (b);
-  for (guint i = 0; i < schedule->warnings->len; i++)
-    json_builder_add_string_value (b, g_ptr_array_index (schedule->warnings, i));
+  {
+    const GPtrArray *w = schedule->warnings_c != NULL ? schedule->warnings_c : schedule->warnings;
+
+    for (guint i = 0; i < w->len; i++)
+      json_builder_add_string_value (b, g_ptr_array_index (w, i));
+  }
   json_builder_end_array (b);
 
   json_builder_set_member_name (b, "sensitivity");

@@ -26,9 +26,23 @@
  * time and cool-down) relative to what the whole unbudgeted plan needs.
  * Steps are left out in increasing value / cost until the rest fits. The
  * order does not depend on the budgets, and the kept set is the complement
- * of the shortest fitting prefix of that order, so more beam time or more
- * cryogen never leaves out more steps (common practice, no source: a greedy
- * knapsack by value density). */
+ * of the shortest fitting prefix of that order (common practice, no source:
+ * a greedy knapsack by value density). Whole blocks: the candidates "leave
+ * out the j blocks with the most demanding settle time and cool-down, then
+ * steps as above" for j = 0, 1, ... are compared and the one leaving out
+ * the fewest steps wins (ties: smaller j). Each candidate leaves out fewer
+ * steps as a budget grows, so their minimum does too: more beam time or
+ * more cryogen never leaves out more steps. A block whose settle time or
+ * cool-down alone exceeds a budget can never be kept, and its steps say
+ * "block cool-down does not fit".
+ *
+ * Stretch policy: every target times one factor s >= 1, the smallest that
+ * fits, by bisection (time falls as s rises).
+ *
+ * Re-plans (MpScheduleOptions): the clock starts at elapsed_h, which comes
+ * off the beam time; cryogen_left_L replaces the budget; a done step takes
+ * no time, and a block holding done steps is under way, so its settle time
+ * and cool-down are not counted again. */
 #include "config.h"
 
 #include "mp-schedule.h"
@@ -39,6 +53,7 @@
 
 #include <glib/gi18n.h>
 #include <gsl/gsl_interp.h>
+#include <locale.h>
 #include <math.h>
 #include <string.h>
 
@@ -116,7 +131,8 @@ typedef struct
   gboolean feasible;
   GPtrArray *blocks;        /* MpBlockWork* */
   GArray *left_out;         /* MpLeftOut */
-  GPtrArray *warnings;      /* char* */
+  GPtrArray *warnings;      /* char*, translated */
+  GPtrArray *warnings_c;    /* char*, untranslated, C numbers */
   guint n_out_of_range;
 } MpPlanner;
 
@@ -179,6 +195,7 @@ left_out_clear (gpointer data)
   MpLeftOut *lo = data;
 
   g_free (lo->reason);
+  g_free (lo->reason_c);
 }
 
 static void
@@ -187,27 +204,63 @@ planner_clear (MpPlanner *p)
   g_clear_pointer (&p->blocks, g_ptr_array_unref);
   g_clear_pointer (&p->left_out, g_array_unref);
   g_clear_pointer (&p->warnings, g_ptr_array_unref);
+  g_clear_pointer (&p->warnings_c, g_ptr_array_unref);
 }
 
+/* Messages go out twice: translated with the user's numbers for people
+ * (MpSchedule.warnings, MpLeftOut.reason), and untranslated with C numbers
+ * for machines (the JSON), so that the JSON is the same in every locale. */
+static gpointer
+create_c_locale (gpointer data)
+{
+  return (gpointer) newlocale (LC_ALL_MASK, "C", (locale_t) 0);
+}
+
+static char *
+format_untranslated (const char *format, va_list args) G_GNUC_PRINTF (1, 0);
+
+static char *
+format_untranslated (const char *format, va_list args)
+{
+  static GOnce once = G_ONCE_INIT;
+  locale_t c_locale = (locale_t) g_once (&once, create_c_locale, NULL);
+  locale_t old;
+  char *text;
+
+  if (c_locale == (locale_t) 0)
+    return g_strdup_vprintf (format, args);
+  old = uselocale (c_locale);
+  text = g_strdup_vprintf (format, args);
+  uselocale (old);
+  return text;
+}
+
+/* reason: untranslated; reason_translated: NULL to translate reason. */
 static void
 add_left_out (MpPlanner *p, double temperature_K, double photon_energy_eV,
-              double wavelength_nm, const char *reason)
+              double wavelength_nm, const char *reason, const char *reason_translated)
 {
-  MpLeftOut lo = { temperature_K, photon_energy_eV, wavelength_nm, g_strdup (reason) };
+  MpLeftOut lo = { temperature_K, photon_energy_eV, wavelength_nm, NULL, NULL };
 
+  lo.reason = g_strdup (reason_translated != NULL ? reason_translated : _(reason));
+  lo.reason_c = g_strdup (reason);
   g_array_append_val (p->left_out, lo);
 }
 
+/* format is an N_() string. */
 static void
 add_warning (MpPlanner *p, const char *format, ...) G_GNUC_PRINTF (2, 3);
 
 static void
 add_warning (MpPlanner *p, const char *format, ...)
 {
-  va_list args;
+  va_list args, args2;
 
   va_start (args, format);
-  g_ptr_array_add (p->warnings, g_strdup_vprintf (format, args));
+  va_copy (args2, args);
+  g_ptr_array_add (p->warnings, g_strdup_vprintf (_(format), args));
+  g_ptr_array_add (p->warnings_c, format_untranslated (format, args2));
+  va_end (args2);
   va_end (args);
 }
 
@@ -562,10 +615,14 @@ add_steps (MpPlanner *p, MpBlockWork *bw, MpStepKind kind, const GArray *grid,
       w->s.excess_energy_eV = w->s.photon_energy_eV - p->phi_eff_eV;
       if (!predict_step (p, bw, w))
         {
-          g_autofree char *reason =
+          /* The same words twice: for the JSON, and translated. */
+          g_autofree char *why = g_strdup_printf ("outside the laser's tuning range (%s)",
+                                                  out_of_range);
+          g_autofree char *why_translated =
             g_strdup_printf (_("outside the laser's tuning range (%s)"), out_of_range);
 
-          add_left_out (p, temperature_K, w->s.photon_energy_eV, wavelength_nm, reason);
+          add_left_out (p, temperature_K, w->s.photon_energy_eV, wavelength_nm,
+                        why, why_translated);
           p->n_out_of_range++;
           g_array_set_size (bw->work, bw->work->len - 1);
           continue;
@@ -1240,16 +1297,16 @@ apply_drop (MpPlanner *p)
     {
       memset (excluded, 0, sizeof (gboolean) * MAX (p->blocks->len, 1));
       mark_drop (p, order, excluded, 0);
-      add_warning (p, _("Even leaving out every remaining step, the plan does not fit: "
+      add_warning (p, N_("Even leaving out every remaining step, the plan does not fit: "
                         "%.3g h of beam time and %.3g L of cryogen are available"),
                    p->avail_h, p->avail_L);
       return;
     }
   if (best == (int) n_pending && n_pending > 0)
-    add_warning (p, _("No step fits: %.3g h of beam time and %.3g L of cryogen are available"),
+    add_warning (p, N_("No step fits: %.3g h of beam time and %.3g L of cryogen are available"),
                  p->avail_h, p->avail_L);
   else if (best > 0)
-    add_warning (p, _("Over budget: %d steps left out to fit %.3g h and %.3g L"),
+    add_warning (p, N_("Over budget: %d steps left out to fit %.3g h and %.3g L"),
                  best, p->avail_h, p->avail_L);
   for (guint b = 0; b < p->blocks->len; b++)
     {
@@ -1262,8 +1319,11 @@ apply_drop (MpPlanner *p)
       for (guint i = 0; i < bw->work->len; i++)
         kept_any |= is_pending (bw, &g_array_index (bw->work, MpWork, i));
       if (!kept_any && alone_too_big && !bw->started)
-        add_warning (p, _("The %g K block is left out: its settle time and cool-down alone "
+        add_warning (p, N_("The %g K block is left out: its settle time and cool-down alone "
                           "do not fit"), bw->tb->temperature_K);
+      else if (bw->dropped)
+        add_warning (p, N_("The %g K block is left out whole: that leaves out fewer steps "
+                          "than thinning the blocks"), bw->tb->temperature_K);
       for (guint i = 0; i < bw->work->len; i++)
         {
           MpWork *w = &g_array_index (bw->work, MpWork, i);
@@ -1289,7 +1349,7 @@ apply_stretch (MpPlanner *p)
       measure_totals (p, &h, &L);
       p->feasible = FALSE;
       set_all_dwells (p, 1.0);
-      add_warning (p, _("Even with every target loosened without limit, settle times, "
+      add_warning (p, N_("Even with every target loosened without limit, settle times, "
                         "cool-downs, retunes and minimum dwells need %.3g h and %.3g L, "
                         "but %.3g h and %.3g L are available"),
                    h, L, p->avail_h, p->avail_L);
@@ -1315,7 +1375,7 @@ apply_stretch (MpPlanner *p)
     }
   p->stretch = hi;
   set_all_dwells (p, hi);
-  add_warning (p, _("Over budget: every target loosened by a factor %.3f to fit %.3g h and %.3g L"),
+  add_warning (p, N_("Over budget: every target loosened by a factor %.3f to fit %.3g h and %.3g L"),
                hi, p->avail_h, p->avail_L);
 }
 
@@ -1360,16 +1420,17 @@ run_planner (MpPlanner *p, const MpPlan *plan, const MpScheduleOptions *opts,
   p->left_out = g_array_new (FALSE, FALSE, sizeof (MpLeftOut));
   g_array_set_clear_func (p->left_out, left_out_clear);
   p->warnings = g_ptr_array_new_with_free_func (g_free);
+  p->warnings_c = g_ptr_array_new_with_free_func (g_free);
 
   /* The reference point, with the same field and laser line. */
   ref_excess = plan->cathode.qe_ref_photon_energy_eV - p->phi_eff_eV;
   mp_emission_averaged (ref_excess, plan->cathode.qe_ref_temperature_K, p->bandwidth_eV, &p->ref);
 
   if (p->avail_h < 0.0)
-    add_warning (p, _("The elapsed time %.3g h is more than the beam time %.3g h"),
+    add_warning (p, N_("The elapsed time %.3g h is more than the beam time %.3g h"),
                  opts->elapsed_h, plan->beam_time_h);
   if (p->avail_L < 0.0)
-    add_warning (p, _("The cryogen left, %.3g L, is below the reserve of %.3g L"),
+    add_warning (p, N_("The cryogen left, %.3g L, is below the reserve of %.3g L"),
                  p->level0_L, plan->cryostat.reserve_L);
   if (!generate_steps (p, error))
     return FALSE;
@@ -1398,6 +1459,7 @@ mp_schedule_free (MpSchedule *schedule)
   g_clear_pointer (&schedule->blocks, g_ptr_array_unref);
   g_clear_pointer (&schedule->left_out, g_array_unref);
   g_clear_pointer (&schedule->warnings, g_ptr_array_unref);
+  g_clear_pointer (&schedule->warnings_c, g_ptr_array_unref);
   g_free (schedule);
 }
 
@@ -1494,6 +1556,7 @@ lay_out_timeline (const MpPlanner *p, MpSchedule *schedule)
   double clock_h = p->opts->elapsed_h;
   double level_L = p->level0_L;
   int prev_range = -1, index = 1;
+  static const char *over_budget = N_("over budget");
 
   for (guint b = 0; b < p->blocks->len; b++)
     {
@@ -1517,7 +1580,7 @@ lay_out_timeline (const MpPlanner *p, MpSchedule *schedule)
           if (!is_kept (bw, w))
             add_left_out ((MpPlanner *) p, w->s.temperature_K, w->s.photon_energy_eV,
                           w->s.wavelength_nm,
-                          _(w->drop_reason != NULL ? w->drop_reason : N_("over budget")));
+                          w->drop_reason != NULL ? w->drop_reason : over_budget, NULL);
         }
       if (!any_kept)
         continue;
@@ -1575,7 +1638,7 @@ warn_about_steps (MpPlanner *p)
   const MpPlan *plan = p->plan;
 
   if (p->n_out_of_range > 0)
-    add_warning (p, _("%u steps are outside the laser's tuning range and left out"),
+    add_warning (p, N_("%u steps are outside the laser's tuning range and left out"),
                  p->n_out_of_range);
   for (guint b = 0; b < p->blocks->len; b++)
     {
@@ -1596,15 +1659,15 @@ warn_about_steps (MpPlanner *p)
             n_dark++;
         }
       if (n_short > 0)
-        add_warning (p, _("%g K: %d steps need more than the longest dwell (%g s) and fall "
+        add_warning (p, N_("%g K: %d steps need more than the longest dwell (%g s) and fall "
                           "short of their target"),
                      bw->tb->temperature_K, n_short, plan->scan.max_dwell_s);
       if (n_floor > 0)
-        add_warning (p, _("%g K: %d steps cannot reach their target at any dwell: the "
+        add_warning (p, N_("%g K: %d steps cannot reach their target at any dwell: the "
                           "systematic floor of %g meV is above it"),
                      bw->tb->temperature_K, n_floor, plan->detector.systematic_meV);
       if (n_dark > 0)
-        add_warning (p, _("%g K: %d steps have no predicted signal"),
+        add_warning (p, N_("%g K: %d steps have no predicted signal"),
                      bw->tb->temperature_K, n_dark);
     }
 }
@@ -1629,6 +1692,7 @@ schedule_from_planner (MpPlanner *p)
                        && schedule->cryogen_L <= p->avail_L;
   schedule->left_out = g_steal_pointer (&p->left_out);
   schedule->warnings = g_steal_pointer (&p->warnings);
+  schedule->warnings_c = g_steal_pointer (&p->warnings_c);
   return schedule;
 }
 

@@ -67,7 +67,8 @@ typedef struct
   double temperature_K;
   double photon_energy_eV;
   double wavelength_nm;
-  char *reason;
+  char *reason;                /* translated, for people */
+  char *reason_c;              /* untranslated, for the JSON */
 } MpLeftOut;
 
 typedef struct
@@ -95,10 +96,11 @@ typedef struct
   double cryogen_available_L;  /* budget - reserve */
   GPtrArray *blocks;           /* MpBlock* */
   GArray *left_out;            /* MpLeftOut */
-  GPtrArray *warnings;         /* char* */
+  GPtrArray *warnings;         /* char*, translated, for people */
   gboolean has_sensitivity;
   MpSensitivity sensitivity_low;   /* at phi - sigma */
   MpSensitivity sensitivity_high;  /* at phi + sigma */
+  GPtrArray *warnings_c;       /* char*, untranslated with C numbers: the JSON */
 } MpSchedule;
 
 typedef struct
