@@ -266,6 +266,43 @@ test_replan_options (void)
   assert_rel (g_array_index (block->steps, MpStep, 2).cryogen_left_L, 12.0 - 0.0625, 1e-12);
 }
 
+/* Two tuning ranges: crossing from one to the other costs the new range's
+ * switch time once (issue 3, item 1). The worked plan's 269 and 275 nm
+ * steps lie in 250-275 nm, the 281 nm step in 275.5-300 nm; descending
+ * photon energy crosses once: 0.24238126644752 h + 600 s. */
+static MpSchedule *compute_quick (const MpPlan *plan);
+
+static void
+test_range_switch (void)
+{
+  g_autoptr (MpPlan) plan = make_worked_plan ();
+  g_autoptr (MpSchedule) s = NULL;
+  static const double wa[] = { 250, 275 }, ua[] = { 0.2, 0.3 };
+  static const double wb[] = { 275.5, 300 }, ub[] = { 0.302, 0.4 };
+  MpBlock *block;
+
+  g_ptr_array_set_size (plan->laser.ranges, 0);
+  g_ptr_array_add (plan->laser.ranges, new_range ("A", 300, wa, ua, 2));
+  g_ptr_array_add (plan->laser.ranges, new_range ("B", 600, wb, ub, 2));
+  s = compute_quick (plan);
+  block = g_ptr_array_index (s->blocks, 0);
+  g_assert_cmpuint (block->steps->len, ==, 3);
+  g_assert_cmpint (g_array_index (block->steps, MpStep, 1).range_index, ==, 0);
+  g_assert_cmpint (g_array_index (block->steps, MpStep, 2).range_index, ==, 1);
+  /* Same pulse energies as the straight line of the worked example, so the
+   * same dwells; only the switch is new. */
+  assert_rel (s->beam_time_h, 0.24238126644752002 + 600.0 / 3600.0, 1e-9);
+  assert_rel (g_array_index (block->steps, MpStep, 2).end_h
+              - g_array_index (block->steps, MpStep, 2).start_h,
+              (30.0 + 150.0 + 600.0) / 3600.0, 1e-9);
+
+  /* Ascending order: 281 nm (B) first, then A: again one switch, into A. */
+  g_clear_pointer (&s, mp_schedule_free);
+  plan->scan.order = MP_SCAN_ASCENDING;
+  s = compute_quick (plan);
+  assert_rel (s->beam_time_h, 0.24238126644752002 + 300.0 / 3600.0, 1e-9);
+}
+
 /* ---- generated plans ---------------------------------------------------- */
 
 static MpPlan *
@@ -733,6 +770,7 @@ main (int argc, char **argv)
   g_test_add_func ("/schedule/worked-example", test_worked_example);
   g_test_add_func ("/schedule/replan-options", test_replan_options);
   g_test_add_func ("/schedule/out-of-range", test_out_of_range);
+  g_test_add_func ("/schedule/range-switch", test_range_switch);
   g_test_add_func ("/schedule/drop-reasons", test_drop_reasons);
   g_test_add_func ("/schedule/qe-sweep", test_qe_sweep);
   g_test_add_func ("/schedule/json-contract", test_json_contract);
