@@ -6,6 +6,7 @@
 #include "config.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include <cairo.h>
@@ -225,6 +226,37 @@ test_pages_grow (void)
   render_pngs (p_big, "many-steps-a4");
 }
 
+/* Step index -> wavelength as mp_schedule_to_csv writes it. */
+static GHashTable *
+schedule_csv_wavelengths (const MpSchedule *schedule)
+{
+  g_autofree char *csv = mp_schedule_to_csv (schedule);
+  g_auto (GStrv) lines = g_strsplit (csv, "\n", -1);
+  g_auto (GStrv) head = NULL;
+  GHashTable *map = g_hash_table_new_full (NULL, NULL, NULL, g_free);
+  int col_index = -1, col_wl = -1;
+
+  g_assert_nonnull (lines[0]);
+  head = g_strsplit (lines[0], ",", -1);
+  for (int c = 0; head[c]; c++)
+    {
+      if (g_str_equal (head[c], "index"))
+        col_index = c;
+      if (g_str_equal (head[c], "wavelength_nm"))
+        col_wl = c;
+    }
+  g_assert_cmpint (col_index, >=, 0);
+  g_assert_cmpint (col_wl, >=, 0);
+  for (int i = 1; lines[i] && *lines[i]; i++)
+    {
+      g_auto (GStrv) f = g_strsplit (lines[i], ",", -1);
+      if ((int) g_strv_length (f) <= MAX (col_index, col_wl))
+        continue;
+      g_hash_table_insert (map, GINT_TO_POINTER (atoi (f[col_index])), g_strdup (f[col_wl]));
+    }
+  return map;
+}
+
 static gboolean
 contains (const char *text, const char *needle)
 {
@@ -243,6 +275,7 @@ test_text (void)
   g_autoptr (MpSchedule) schedule = NULL;
   g_autofree char *pdf = NULL, *text = NULL, *sum = NULL, *totals = NULL;
   g_autofree char *cryo = NULL;
+  g_autoptr (GHashTable) csv_wavelengths = NULL;
   int n_pages;
 
   if (!have_poppler ())
@@ -254,6 +287,7 @@ test_text (void)
   schedule = schedule_for (plan);
   pdf = write_pdf (plan, schedule, MP_PAPER_A4, "sheet-text.pdf");
   text = pdf_text (pdf);
+  csv_wavelengths = schedule_csv_wavelengths (schedule);
 
   for (guint b = 0; b < schedule->blocks->len; b++)
     {
@@ -264,9 +298,18 @@ test_text (void)
           g_autofree char *wl = mp_sheet_format_wavelength_nm (plan, s->wavelength_nm);
           g_autofree char *row = NULL;
 
+          const char *csv = g_hash_table_lookup (csv_wavelengths, GINT_TO_POINTER (s->index));
+
           /* The printed number is the schedule's wavelength itself (it is
-           * a multiple of the laser's step), not a re-rounded value. */
+           * a multiple of the laser's step), not a re-rounded value, and
+           * it reads as the schedule's CSV writes it; a whole number gets
+           * the step's decimals ("250" in the CSV is "250.0" here). */
           g_assert_cmpfloat_with_epsilon (g_ascii_strtod (wl, NULL), s->wavelength_nm, 1e-9);
+          g_assert_nonnull (csv);
+          if (strchr (csv, '.') != NULL)
+            g_assert_cmpstr (wl, ==, csv);
+          else
+            g_assert_true (g_str_has_prefix (wl, csv) && wl[strlen (csv)] == '.');
           /* Step number and wavelength on one line of the table. */
           row = g_strdup_printf ("%d", s->index);
           g_assert_true (contains (text, wl));
