@@ -93,7 +93,7 @@ G_DEFINE_FINAL_TYPE (MpPlanEditor, mp_plan_editor, GTK_TYPE_WIDGET)
   { key, label, unit, tip, SCOPE_PLAN, type, G_STRUCT_OFFSET (MpPlan, member) }
 
 static const FieldDesc cathode_fields[] = {
-  PLAN_FIELD ("cathode.label", N_("_Sample"), NULL,
+  PLAN_FIELD ("cathode.label", N_("Sa_mple"), NULL,
               N_("Name of the cathode sample"), cathode.label, TYPE_STRING),
   PLAN_FIELD ("cathode.work_function_eV", N_("_Work function"), "eV",
               N_("Bare work function φ of the surface"), cathode.work_function_eV, TYPE_DOUBLE),
@@ -143,7 +143,7 @@ static const FieldDesc detector_fields[] = {
               N_("Largest transverse energy the detector accepts"), detector.acceptance_meV, TYPE_DOUBLE),
   PLAN_FIELD ("detector.resolution_meV", N_("_Resolution"), "meV",
               N_("Transverse-energy resolution"), detector.resolution_meV, TYPE_DOUBLE),
-  PLAN_FIELD ("detector.systematic_meV", N_("_Systematic floor"), "meV",
+  PLAN_FIELD ("detector.systematic_meV", N_("S_ystematic floor"), "meV",
               N_("MTE uncertainty that no dwell time removes"), detector.systematic_meV, TYPE_DOUBLE),
   { NULL }
 };
@@ -160,33 +160,33 @@ static const FieldDesc shift_fields[] = {
   PLAN_FIELD ("title", N_("_Title"), NULL, N_("Title of the plan"), title, TYPE_STRING),
   PLAN_FIELD ("beam_time_h", N_("_Beam time"), "h",
               N_("Beam time available for the shift"), beam_time_h, TYPE_DOUBLE),
-  PLAN_FIELD ("shift_start", N_("Shift _start"), N_("ISO 8601"),
+  PLAN_FIELD ("shift_start", N_("Shift st_art"), N_("ISO 8601"),
               N_("Start of the shift, e.g. 2026-03-14T08:00; empty for elapsed time"),
               shift_start, TYPE_OPT_STRING),
   { NULL }
 };
 
 static const FieldDesc scan_fields[] = {
-  PLAN_FIELD ("scan.excess_min_eV", N_("Lowest e_xcess energy"), "eV",
+  PLAN_FIELD ("scan.excess_min_eV", N_("_Lowest excess energy"), "eV",
               N_("Lowest photon energy above the effective work function (may be negative)"),
               scan.excess_min_eV, TYPE_DOUBLE),
   PLAN_FIELD ("scan.excess_max_eV", N_("_Highest excess energy"), "eV",
               N_("Highest photon energy above the effective work function"), scan.excess_max_eV, TYPE_DOUBLE),
-  PLAN_FIELD ("scan.step_eV", N_("_Step"), "eV", N_("Photon energy step"), scan.step_eV, TYPE_DOUBLE),
+  PLAN_FIELD ("scan.step_eV", N_("Ste_p"), "eV", N_("Photon energy step"), scan.step_eV, TYPE_DOUBLE),
   PLAN_FIELD ("scan.fine_step_eV", N_("_Fine step"), "eV",
               N_("Step near the threshold; 0 for none"), scan.fine_step_eV, TYPE_DOUBLE),
   PLAN_FIELD ("scan.fine_halfwidth_eV", N_("Fine half-_width"), "eV",
               N_("Half-width of the fine region around the threshold"), scan.fine_halfwidth_eV, TYPE_DOUBLE),
-  PLAN_FIELD ("scan.target_mte_sigma_meV", N_("_Target MTE σ"), "meV",
+  PLAN_FIELD ("scan.target_mte_sigma_meV", N_("Target _MTE σ"), "meV",
               N_("Absolute target standard error of each MTE"), scan.target_mte_sigma_meV, TYPE_DOUBLE),
   PLAN_FIELD ("scan.target_mte_sigma_rel", N_("Target relative σ"), N_("fraction"),
               N_("Relative target standard error; the larger target applies"), scan.target_mte_sigma_rel, TYPE_DOUBLE),
-  PLAN_FIELD ("scan.min_dwell_s", N_("_Minimum dwell"), "s", N_("Shortest time at a step"), scan.min_dwell_s, TYPE_DOUBLE),
+  PLAN_FIELD ("scan.min_dwell_s", N_("Mi_nimum dwell"), "s", N_("Shortest time at a step"), scan.min_dwell_s, TYPE_DOUBLE),
   PLAN_FIELD ("scan.max_dwell_s", N_("Ma_ximum dwell"), "s",
               N_("Longest time at a step; longer needs make the step short"), scan.max_dwell_s, TYPE_DOUBLE),
-  PLAN_FIELD ("scan.qe_sweep_points", N_("QE s_weep points"), N_("points"),
+  PLAN_FIELD ("scan.qe_sweep_points", N_("_QE sweep points"), N_("points"),
               N_("Cheap QE points at the start of each block; 0 for none"), scan.qe_sweep_points, TYPE_INT),
-  PLAN_FIELD ("scan.qe_sweep_dwell_s", N_("QE sweep d_well"), "s",
+  PLAN_FIELD ("scan.qe_sweep_dwell_s", N_("QE sweep _dwell"), "s",
               N_("Dwell of each QE sweep point"), scan.qe_sweep_dwell_s, TYPE_DOUBLE),
   { NULL }
 };
@@ -205,7 +205,7 @@ static const FieldDesc block_fields[] = {
 static const FieldDesc range_fields[] = {
   { "laser.ranges[%d].label", N_("Range _name"), NULL, N_("Name of the tuning range"),
     SCOPE_RANGE, TYPE_OPT_STRING, G_STRUCT_OFFSET (MpTuningRange, label) },
-  { "laser.ranges[%d].switch_s", N_("S_witch time"), "s", N_("Time to switch into this range"),
+  { "laser.ranges[%d].switch_s", N_("Switc_h time"), "s", N_("Time to switch into this range"),
     SCOPE_RANGE, TYPE_DOUBLE, G_STRUCT_OFFSET (MpTuningRange, switch_s) },
   { NULL }
 };
@@ -226,9 +226,9 @@ static const char *const policy_choices[] = { N_("Leave out the least useful ste
 
 static const ChoiceDesc cryogen_choice = { "cryostat.cryogen", N_("_Cryogen"),
                                            G_STRUCT_OFFSET (MpPlan, cryostat.cryogen), cryogen_choices };
-static const ChoiceDesc order_choice = { "scan.order", N_("Scan _order"),
+static const ChoiceDesc order_choice = { "scan.order", N_("Scan o_rder"),
                                          G_STRUCT_OFFSET (MpPlan, scan.order), order_choices };
-static const ChoiceDesc policy_choice = { "over_budget", N_("_Over budget"),
+static const ChoiceDesc policy_choice = { "over_budget", N_("O_ver budget"),
                                           G_STRUCT_OFFSET (MpPlan, over_budget), policy_choices };
 
 static void rebuild_rows (MpPlanEditor *self);
@@ -1184,7 +1184,7 @@ build_laser_page (MpPlanEditor *self)
   gtk_box_append (GTK_BOX (box), heading_new (_("Tuning curve")));
 
   bar = gtk_box_new (GTK_ORIENTATION_HORIZONTAL, 6);
-  label = gtk_label_new_with_mnemonic (_("Tuning _range"));
+  label = gtk_label_new_with_mnemonic (_("Tuning ran_ge"));
   self->range_names = gtk_string_list_new (NULL);
   self->range_dropdown = gtk_drop_down_new (G_LIST_MODEL (g_object_ref (self->range_names)), NULL);
   gtk_label_set_mnemonic_widget (GTK_LABEL (label), self->range_dropdown);
