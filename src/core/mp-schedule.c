@@ -1426,6 +1426,13 @@ run_planner (MpPlanner *p, const MpPlan *plan, const MpScheduleOptions *opts,
   ref_excess = plan->cathode.qe_ref_photon_energy_eV - p->phi_eff_eV;
   mp_emission_averaged (ref_excess, plan->cathode.qe_ref_temperature_K, p->bandwidth_eV, &p->ref);
 
+  /* Below threshold the reference QE measures the thermal tail, which the
+   * field, the surface and the temperature scale move most: every QE of
+   * the plan then rests on it (common practice, no source). */
+  if (ref_excess < -3.0 * mp_thermal_energy_eV (plan->cathode.qe_ref_temperature_K))
+    add_warning (p, N_("The QE reference point lies %.0f meV below threshold: every predicted "
+                       "QE and dwell rests on the thermal tail there"),
+                 -ref_excess * 1e3);
   if (p->avail_h < 0.0)
     add_warning (p, N_("The elapsed time %.3g h is more than the beam time %.3g h"),
                  opts->elapsed_h, plan->beam_time_h);
