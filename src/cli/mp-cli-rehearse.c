@@ -45,9 +45,8 @@ parse_unsigned (const char *option, const char *text, guint64 min, guint64 max,
   if (!g_ascii_string_to_unsigned (text, 10, min, max, out, NULL))
     {
       g_set_error (error, G_OPTION_ERROR, G_OPTION_ERROR_BAD_VALUE,
-                   _("%s: expected a whole number from %" G_GUINT64_FORMAT
-                     " to %" G_GUINT64_FORMAT ", found “%s”"),
-                   option, min, max, text);
+                   _("%s: expected a whole number from %llu to %llu, found “%s”"),
+                   option, (unsigned long long) min, (unsigned long long) max, text);
       return FALSE;
     }
   return TRUE;
@@ -129,8 +128,8 @@ print_shift (const MpRehearsal *r)
 static void
 print_table (const MpRehearsal *r)
 {
-  printf (_("Rehearsal of “%s”: %d trials, seed %" G_GUINT64_FORMAT "\n\n"),
-          r->plan_title, r->trials, r->seed);
+  printf (_("Rehearsal of “%s”: %d trials, seed %llu\n\n"),
+          r->plan_title, r->trials, (unsigned long long) r->seed);
   print_steps_table (r);
   if (r->has_shift)
     print_shift (r);

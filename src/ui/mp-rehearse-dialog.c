@@ -116,7 +116,7 @@ format_shift_summary (const MpRehearsal *r)
                             "Cryogen: within the %.2f L available in %.1f %% of trials "
                             "(planned %.2f L; 5–95 %%: %.2f–%.2f L; median %.2f L).\n"
                             "Both budgets kept in %.1f %% of trials. "
-                            "Work function %.3f ± %.3f eV, seed %" G_GUINT64_FORMAT "."),
+                            "Work function %.3f ± %.3f eV, seed %llu."),
                           r->beam_time_available_h, 100.0 * r->probability_within_beam_time,
                           r->trials, r->planned_beam_time_h,
                           r->beam_time_h_percentiles[0], r->beam_time_h_percentiles[4],
@@ -126,7 +126,8 @@ format_shift_summary (const MpRehearsal *r)
                           r->cryogen_L_percentiles[0], r->cryogen_L_percentiles[4],
                           r->cryogen_L_percentiles[2],
                           100.0 * r->probability_within_both,
-                          r->work_function_eV, r->work_function_sigma_eV, r->seed);
+                          r->work_function_eV, r->work_function_sigma_eV,
+                          (unsigned long long) r->seed);
 }
 
 static char *
