@@ -253,6 +253,61 @@ test_modified_state (void)
   gtk_window_destroy (GTK_WINDOW (window));
 }
 
+static GtkWidget *
+find_button (GtkWidget *widget, const char *label)
+{
+  if (GTK_IS_BUTTON (widget) && g_strcmp0 (gtk_button_get_label (GTK_BUTTON (widget)), label) == 0)
+    return widget;
+  for (GtkWidget *child = gtk_widget_get_first_child (widget); child != NULL;
+       child = gtk_widget_get_next_sibling (child))
+    {
+      GtkWidget *found = find_button (child, label);
+
+      if (found != NULL)
+        return found;
+    }
+  return NULL;
+}
+
+static void
+test_temperature_blocks (void)
+{
+  MpWindow *window = open_demo ();
+  MpDocument *doc = mp_window_get_document (window);
+  MpPlanEditor *editor = MP_PLAN_EDITOR (mp_window_get_editor (window));
+  guint n = mp_document_get_plan (doc)->temperatures->len;
+  GtkWidget *add = find_button (GTK_WIDGET (editor), "_Add Temperature Block");
+  GtkEditable *entry;
+  const char *message;
+
+  /* A row value the core rejects shows the core's message for that row. */
+  entry = mp_plan_editor_get_entry (editor, "temperatures[1].temperature_K");
+  g_assert_nonnull (entry);
+  gtk_editable_set_text (entry, "-5");
+  message = mp_plan_editor_get_error (editor, "temperatures[1].temperature_K");
+  g_assert_nonnull (message);
+  g_assert_nonnull (strstr (message, "temperatures[1].temperature_K"));
+  g_assert_cmpfloat (g_array_index (mp_document_get_plan (doc)->temperatures,
+                                    MpTemperatureBlock, 1).temperature_K, >, 0);
+
+  /* Add a block; the new row has entries; undo removes it again. */
+  g_assert_nonnull (add);
+  g_signal_emit_by_name (add, "clicked");
+  g_assert_cmpuint (mp_document_get_plan (doc)->temperatures->len, ==, n + 1);
+  {
+    g_autofree char *key = g_strdup_printf ("temperatures[%u].settle_min", n);
+    g_assert_nonnull (mp_plan_editor_get_entry (editor, key));
+  }
+  mp_document_undo (doc);
+  g_assert_cmpuint (mp_document_get_plan (doc)->temperatures->len, ==, n);
+  {
+    g_autofree char *key = g_strdup_printf ("temperatures[%u].settle_min", n);
+    g_assert_null (mp_plan_editor_get_entry (editor, key));
+  }
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
 static GtkWindow *
 find_dialog (MpWindow *window)
 {
@@ -421,6 +476,7 @@ main (int argc, char *argv[])
   g_test_add_func ("/window/refused-value", test_refused_value);
   g_test_add_func ("/window/bad-file", test_bad_file);
   g_test_add_func ("/window/undo-redo", test_undo_redo);
+  g_test_add_func ("/window/temperature-blocks", test_temperature_blocks);
   g_test_add_func ("/window/modified-state", test_modified_state);
   g_test_add_func ("/window/close-prompt", test_close_prompt);
   g_test_add_func ("/window/shortcuts-window", test_shortcuts_window);

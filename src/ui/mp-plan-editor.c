@@ -356,7 +356,8 @@ show_error (MpPlanEditor *self, Field *field, const char *message)
 
   gtk_label_set_text (GTK_LABEL (field->error), bad ? message : "");
   gtk_widget_set_visible (field->error, bad);
-  gtk_widget_set_tooltip_text (field->entry, bad ? message : _(field->desc->tooltip));
+  gtk_widget_set_tooltip_text (field->entry, bad ? message
+                               : field->desc->tooltip != NULL ? _(field->desc->tooltip) : NULL);
   if (bad)
     {
       gtk_widget_add_css_class (field->entry, "error");
