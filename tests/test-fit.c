@@ -381,6 +381,21 @@ test_refuse_far_below (void)
 }
 
 static void
+test_refuse_degenerate (void)
+{
+  /* Every point at the same photon energy and temperature: one value of
+   * the yield cannot give both the work function and the scale (a
+   * singular Jacobian, caught from the covariance). */
+  const double t295[] = { 295.0 };
+  g_autoptr (MpPlan) plan = make_plan (5.0);
+  g_autoptr (GRand) rng = g_rand_new_with_seed (9);
+  Synth s = { t295, 1, 1.0, FALSE, 0.05, 0.05, 6, 0.02, FALSE, 0.0, 0.0 };
+  g_autoptr (MpMeasuredData) data = synth_data (plan, &s, rng);
+
+  assert_undetermined (plan, data, NULL, "the data cannot determine");
+}
+
+static void
 test_refuse_not_converged (void)
 {
   g_autoptr (MpPlan) plan = make_plan (5.0);
@@ -455,6 +470,7 @@ main (int argc, char **argv)
   g_test_add_func ("/fit/refuse/too-few", test_refuse_too_few);
   g_test_add_func ("/fit/refuse/far-above", test_refuse_far_above);
   g_test_add_func ("/fit/refuse/far-below", test_refuse_far_below);
+  g_test_add_func ("/fit/refuse/degenerate", test_refuse_degenerate);
   g_test_add_func ("/fit/refuse/not-converged", test_refuse_not_converged);
   g_test_add_func ("/fit/cancelled", test_cancelled);
   g_test_add_func ("/fit/apply-to-plan", test_apply_to_plan);
