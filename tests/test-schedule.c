@@ -757,9 +757,16 @@ test_dense_scan_matches_direct_model (void)
           assert_rel (st->mte_meV, em.mte_eV * 1e3 + plan->cathode.extra_mte_meV, 5e-5);
         }
     }
-  /* The re-plans ran at phi -+ sigma. */
+  /* The what-ifs ran at phi -+ sigma on the same wavelengths. Every step
+   * lies below the QE reference energy (4.96 eV), so a higher work
+   * function lowers every QE (the Fowler yield's log-derivative falls with
+   * excess energy) and the MTE, hence the relative target: dwell, and so
+   * beam time, can only grow; a lower one can only shrink it. */
   assert_rel (s->sensitivity_low.work_function_eV, 4.59 - 0.03, 1e-12);
   assert_rel (s->sensitivity_high.work_function_eV, 4.59 + 0.03, 1e-12);
+  g_assert_cmpfloat (s->sensitivity_high.beam_time_h, >, s->beam_time_h);
+  g_assert_cmpfloat (s->sensitivity_low.beam_time_h, <, s->beam_time_h);
+  g_assert_cmpint (s->sensitivity_high.n_left_out, ==, 0);
 }
 
 int

@@ -116,6 +116,7 @@ typedef struct
   const MpScheduleOptions *opts;
   GPtrArray *tables;        /* MpEmissionTable* per block (NULL: direct), or NULL */
   gboolean nominal;         /* the plan itself, not a phi +- sigma re-plan */
+  const MpSchedule *planned; /* what-if: re-predict these steps, or NULL */
   double phi_eV;
   double phi_eff_eV;
   MpEmission ref;
@@ -260,6 +261,27 @@ add_warning (MpPlanner *p, const char *format, ...)
   va_copy (args2, args);
   g_ptr_array_add (p->warnings, g_strdup_vprintf (_(format), args));
   g_ptr_array_add (p->warnings_c, format_untranslated (format, args2));
+  va_end (args2);
+  va_end (args);
+}
+
+/* A warning about a count of steps: singular and plural as the language
+ * needs them (g_dngettext), English by n for the JSON copy. xgettext finds
+ * the two forms by the keyword add_warning_n:3,4 (po/meson.build). */
+static void
+add_warning_n (MpPlanner *p, gulong n, const char *singular, const char *plural, ...)
+  G_GNUC_PRINTF (3, 5) G_GNUC_PRINTF (4, 5);
+
+static void
+add_warning_n (MpPlanner *p, gulong n, const char *singular, const char *plural, ...)
+{
+  va_list args, args2;
+
+  va_start (args, plural);
+  va_copy (args2, args);
+  g_ptr_array_add (p->warnings,
+                   g_strdup_vprintf (g_dngettext (GETTEXT_PACKAGE, singular, plural, n), args));
+  g_ptr_array_add (p->warnings_c, format_untranslated (n == 1 ? singular : plural, args2));
   va_end (args2);
   va_end (args);
 }
@@ -674,6 +696,43 @@ matches_done (const MpPlanner *p, const MpStep *s)
   return FALSE;
 }
 
+/* What-if: the steps the nominal schedule kept for this block, at their
+ * wavelengths, predicted again with this planner's work function. */
+static void
+add_planned_steps (MpPlanner *p, MpBlockWork *bw)
+{
+  for (guint b = 0; b < p->planned->blocks->len; b++)
+    {
+      const MpBlock *block = g_ptr_array_index (p->planned->blocks, b);
+
+      if (block->plan_block_index != (int) bw->index)
+        continue;
+      for (guint i = 0; i < block->steps->len; i++)
+        {
+          const MpStep *planned = &g_array_index (block->steps, MpStep, i);
+          MpWork *w;
+
+          g_array_set_size (bw->work, bw->work->len + 1);
+          w = &g_array_index (bw->work, MpWork, bw->work->len - 1);
+          w->s.kind = planned->kind;
+          w->s.temperature_K = planned->temperature_K;
+          w->s.wavelength_nm = planned->wavelength_nm;
+          w->s.photon_energy_eV = planned->photon_energy_eV;
+          w->s.excess_energy_eV = planned->photon_energy_eV - p->phi_eff_eV;
+          if (!predict_step (p, bw, w))
+            {
+              g_array_set_size (bw->work, bw->work->len - 1);
+              continue;
+            }
+          {
+            double z = w->s.excess_energy_eV / bw->band_eV;
+
+            w->weight = 1.0 + 2.0 * exp (-0.5 * z * z);
+          }
+        }
+    }
+}
+
 static gboolean
 generate_steps (MpPlanner *p, GError **error)
 {
@@ -694,13 +753,16 @@ generate_steps (MpPlanner *p, GError **error)
                                     grid->len + MAX (plan->scan.qe_sweep_points, 0));
       bw->band_eV = near_threshold_band_eV (plan, bw->tb->temperature_K);
       g_ptr_array_add (p->blocks, bw);
-      if (plan->scan.qe_sweep_points > 0)
+      if (plan->scan.qe_sweep_points > 0 && p->planned == NULL)
         {
           g_autoptr (GArray) sweep = make_sweep_grid (plan, bw->tb->temperature_K);
 
           add_steps (p, bw, MP_STEP_KIND_QE_SWEEP, sweep, ranges);
         }
-      add_steps (p, bw, MP_STEP_KIND_MTE, grid, ranges);
+      if (p->planned != NULL)
+        add_planned_steps (p, bw);
+      else
+        add_steps (p, bw, MP_STEP_KIND_MTE, grid, ranges);
       for (guint i = 0; i < bw->work->len; i++)
         {
           MpWork *w = &g_array_index (bw->work, MpWork, i);
@@ -1306,8 +1368,9 @@ apply_drop (MpPlanner *p)
     add_warning (p, N_("No step fits: %.3g h of beam time and %.3g L of cryogen are available"),
                  p->avail_h, p->avail_L);
   else if (best > 0)
-    add_warning (p, N_("Over budget: %d steps left out to fit %.3g h and %.3g L"),
-                 best, p->avail_h, p->avail_L);
+    add_warning_n (p, best, "Over budget: %d step left out to fit %.3g h and %.3g L",
+                   "Over budget: %d steps left out to fit %.3g h and %.3g L",
+                   best, p->avail_h, p->avail_L);
   for (guint b = 0; b < p->blocks->len; b++)
     {
       MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
@@ -1383,19 +1446,23 @@ static void
 apply_policy (MpPlanner *p)
 {
   set_all_dwells (p, 1.0);
-  if (fits (p))
-    return;
-  if (p->plan->over_budget == MP_OVER_BUDGET_STRETCH)
-    apply_stretch (p);
-  else
-    apply_drop (p);
+  if (!fits (p))
+    {
+      if (p->plan->over_budget == MP_OVER_BUDGET_STRETCH)
+        apply_stretch (p);
+      else
+        apply_drop (p);
+    }
+  /* Value per cost of the kept steps, for priorities and cut lists. */
+  rank_steps (p);
 }
 
 /* ---- the planner as a whole ------------------------------------------- */
 
 static gboolean
 run_planner (MpPlanner *p, const MpPlan *plan, const MpScheduleOptions *opts,
-             GPtrArray *tables, gboolean nominal, double work_function_eV, GError **error)
+             GPtrArray *tables, const MpSchedule *planned, double work_function_eV,
+             GError **error)
 {
   double ref_excess;
 
@@ -1403,7 +1470,8 @@ run_planner (MpPlanner *p, const MpPlan *plan, const MpScheduleOptions *opts,
   p->plan = plan;
   p->opts = opts;
   p->tables = tables;
-  p->nominal = nominal;
+  p->nominal = planned == NULL;
+  p->planned = planned;
   p->phi_eV = work_function_eV;
   p->phi_eff_eV = mp_effective_work_function_eV (work_function_eV, plan->cathode.field_MV_per_m);
   p->f_rep_Hz = plan->laser.repetition_rate_kHz * 1e3;
@@ -1489,11 +1557,29 @@ compare_cut_refs (gconstpointer a, gconstpointer b)
   return ca->pos > cb->pos ? -1 : (ca->pos < cb->pos ? 1 : 0);
 }
 
+/* An MTE step that reaches less than a hundredth of the information its
+ * target asks for (sigma more than 10 times the target): deep below
+ * threshold, swamped by dark counts. */
+static gboolean
+is_hopeless (const MpStep *s)
+{
+  double r;
+
+  if (s->kind != MP_STEP_KIND_MTE)
+    return FALSE;
+  if (!(s->signal_rate_per_s > 0.0) || !isfinite (s->reached_sigma_meV))
+    return TRUE;
+  r = s->target_sigma_meV / s->reached_sigma_meV;
+  return r * r < 0.01;
+}
+
 /* Priority 1: QE sweep steps, the steps within the near-threshold band
  * (2 sigma_phi + 2 kT, at least half a coarse step, so that the steps on
- * either side of threshold are in it), the step nearest threshold and the two end
- * anchors (highest and lowest excess). The others: the better half by
- * value per cost 2, the rest 3. */
+ * either side of threshold are in it), the step nearest threshold and the
+ * two end anchors (highest and lowest excess), among the steps that are
+ * not hopeless. The others: the better half by value per cost 2, the rest
+ * 3; hopeless steps are always 3 and come first in the cut list (they have
+ * the least value). */
 static void
 set_priorities (const MpPlanner *p, const MpBlockWork *bw, MpBlock *block, GArray *ranks)
 {
@@ -1508,7 +1594,7 @@ set_priorities (const MpPlanner *p, const MpBlockWork *bw, MpBlock *block, GArra
     {
       MpStep *s = &g_array_index (block->steps, MpStep, i);
 
-      if (s->kind != MP_STEP_KIND_MTE)
+      if (s->kind != MP_STEP_KIND_MTE || is_hopeless (s))
         continue;
       if (lo_i < 0 || s->excess_energy_eV < g_array_index (block->steps, MpStep, lo_i).excess_energy_eV)
         lo_i = i;
@@ -1522,8 +1608,9 @@ set_priorities (const MpPlanner *p, const MpBlockWork *bw, MpBlock *block, GArra
     {
       MpStep *s = &g_array_index (block->steps, MpStep, i);
 
-      if (s->kind == MP_STEP_KIND_QE_SWEEP || (int) i == lo_i || (int) i == hi_i
-          || (int) i == near_i || fabs (s->excess_energy_eV) <= inner)
+      if (!is_hopeless (s)
+          && (s->kind == MP_STEP_KIND_QE_SWEEP || (int) i == lo_i || (int) i == hi_i
+              || (int) i == near_i || fabs (s->excess_energy_eV) <= inner))
         s->priority = 1;
       else
         {
@@ -1540,7 +1627,7 @@ set_priorities (const MpPlanner *p, const MpBlockWork *bw, MpBlock *block, GArra
       MpStep *s = &g_array_index (block->steps, MpStep, c->pos);
 
       /* rest is sorted worst first: the last half is the better half. */
-      c->priority = s->priority = j < (rest->len + 1) / 2 ? 3 : 2;
+      c->priority = s->priority = j < (rest->len + 1) / 2 || is_hopeless (s) ? 3 : 2;
     }
   g_array_sort (rest, compare_cut_refs);
   for (guint j = 0; j < rest->len; j++)
@@ -1593,6 +1680,7 @@ lay_out_timeline (const MpPlanner *p, MpSchedule *schedule)
         continue;
       block = g_new0 (MpBlock, 1);
       block->temperature_K = bw->tb->temperature_K;
+      block->plan_block_index = (int) bw->index;
       block->steps = g_array_new (FALSE, FALSE, sizeof (MpStep));
       block->cut_list = g_array_new (FALSE, FALSE, sizeof (int));
       ranks = g_array_new (FALSE, FALSE, sizeof (double));
@@ -1645,12 +1733,14 @@ warn_about_steps (MpPlanner *p)
   const MpPlan *plan = p->plan;
 
   if (p->n_out_of_range > 0)
-    add_warning (p, N_("%u steps are outside the laser's tuning range and left out"),
-                 p->n_out_of_range);
+    add_warning_n (p, p->n_out_of_range,
+                   "%u step is outside the laser's tuning range and left out",
+                   "%u steps are outside the laser's tuning range and left out",
+                   p->n_out_of_range);
   for (guint b = 0; b < p->blocks->len; b++)
     {
       MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
-      int n_short = 0, n_floor = 0, n_dark = 0;
+      int n_short = 0, n_floor = 0, n_dark = 0, n_hopeless = 0;
 
       for (guint i = 0; i < bw->work->len; i++)
         {
@@ -1658,6 +1748,7 @@ warn_about_steps (MpPlanner *p)
 
           if (!is_pending (bw, w) || w->s.kind != MP_STEP_KIND_MTE)
             continue;
+          n_hopeless += w->s.status == MP_STEP_SHORT && is_hopeless (&w->s);
           if (w->s.status == MP_STEP_SHORT)
             n_short++;
           else if (w->s.status == MP_STEP_UNREACHABLE && w->s.signal_rate_per_s > 0.0)
@@ -1666,16 +1757,27 @@ warn_about_steps (MpPlanner *p)
             n_dark++;
         }
       if (n_short > 0)
-        add_warning (p, N_("%g K: %d steps need more than the longest dwell (%g s) and fall "
-                          "short of their target"),
-                     bw->tb->temperature_K, n_short, plan->scan.max_dwell_s);
+        add_warning_n (p, n_short,
+                       "%g K: %d step needs more than the longest dwell (%g s) and falls "
+                          "short of its target",
+                       "%g K: %d steps need more than the longest dwell (%g s) and fall "
+                          "short of their target",
+                       bw->tb->temperature_K, n_short, plan->scan.max_dwell_s);
+      if (n_hopeless > 0)
+        add_warning (p, N_("%g K: %d of them reach less than a tenth of the target precision "
+                           "(too little signal); they head the cut list"),
+                     bw->tb->temperature_K, n_hopeless);
       if (n_floor > 0)
-        add_warning (p, N_("%g K: %d steps cannot reach their target at any dwell: the "
-                          "systematic floor of %g meV is above it"),
-                     bw->tb->temperature_K, n_floor, plan->detector.systematic_meV);
+        add_warning_n (p, n_floor,
+                       "%g K: %d step cannot reach its target at any dwell: the "
+                          "systematic floor of %g meV is above it",
+                       "%g K: %d steps cannot reach their target at any dwell: the "
+                          "systematic floor of %g meV is above it",
+                       bw->tb->temperature_K, n_floor, plan->detector.systematic_meV);
       if (n_dark > 0)
-        add_warning (p, N_("%g K: %d steps have no predicted signal"),
-                     bw->tb->temperature_K, n_dark);
+        add_warning_n (p, n_dark, "%g K: %d step has no predicted signal",
+                       "%g K: %d steps have no predicted signal",
+                       bw->tb->temperature_K, n_dark);
     }
 }
 
@@ -1717,12 +1819,12 @@ sensitivity_from_schedule (const MpSchedule *s, MpSensitivity *out)
 
 static MpSchedule *
 compute_at (const MpPlan *plan, const MpScheduleOptions *opts, GPtrArray *tables,
-            gboolean nominal, double work_function_eV, GError **error)
+            const MpSchedule *planned, double work_function_eV, GError **error)
 {
   MpPlanner p;
   MpSchedule *schedule;
 
-  if (!run_planner (&p, plan, opts, tables, nominal, work_function_eV, error))
+  if (!run_planner (&p, plan, opts, tables, planned, work_function_eV, error))
     {
       planner_clear (&p);
       return NULL;
@@ -1771,7 +1873,7 @@ mp_schedule_compute (const MpPlan *plan, const MpScheduleOptions *opts, GError *
     }
 
   tables = build_emission_tables (plan, opts);
-  schedule = compute_at (plan, opts, tables, TRUE, plan->cathode.work_function_eV, error);
+  schedule = compute_at (plan, opts, tables, NULL, plan->cathode.work_function_eV, error);
   if (schedule == NULL || opts->no_sensitivity)
     return schedule;
 
@@ -1783,8 +1885,8 @@ mp_schedule_compute (const MpPlan *plan, const MpScheduleOptions *opts, GError *
     g_autoptr (MpSchedule) high = NULL;
 
     sub.no_sensitivity = TRUE;
-    low = compute_at (plan, &sub, tables, FALSE, phi - sigma, NULL);
-    high = compute_at (plan, &sub, tables, FALSE, phi + sigma, NULL);
+    low = compute_at (plan, &sub, tables, schedule, phi - sigma, NULL);
+    high = compute_at (plan, &sub, tables, schedule, phi + sigma, NULL);
     if (low != NULL && high != NULL)
       {
         sensitivity_from_schedule (low, &schedule->sensitivity_low);

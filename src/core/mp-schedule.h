@@ -60,6 +60,7 @@ typedef struct
   double cryogen_end_L;        /* left at block end */
   GArray *steps;               /* MpStep */
   GArray *cut_list;            /* int: indices into steps, skip-first order */
+  int plan_block_index;        /* in plan->temperatures */
 } MpBlock;
 
 typedef struct
@@ -71,6 +72,10 @@ typedef struct
   char *reason_c;              /* untranslated, for the JSON */
 } MpLeftOut;
 
+/* The nominal schedule's steps (same wavelengths) if the work function
+ * were off by one sigma: the steps are predicted again and the plan's
+ * over-budget policy applied again; n_left_out counts what it then leaves
+ * out of them. */
 typedef struct
 {
   double work_function_eV;
