@@ -14,6 +14,7 @@
 #include "mp-physics.h"
 #include "mp-plan-editor.h"
 #include "mp-schedule-view.h"
+#include "mp-sheet.h"
 #include "mp-window.h"
 
 #define DEMO MP_SOURCE_DIR "/data/examples/cold-copper-shift.mteplan"
@@ -308,6 +309,64 @@ test_temperature_blocks (void)
   gtk_window_destroy (GTK_WINDOW (window));
 }
 
+static guint
+count_substrings (const char *haystack, gsize length, const char *needle)
+{
+  gsize n = strlen (needle);
+  guint count = 0;
+
+  for (gsize i = 0; i + n <= length; i++)
+    if (memcmp (haystack + i, needle, n) == 0 && (i + n == length || haystack[i + n] != 's'))
+      count++;
+  return count;
+}
+
+static void
+test_export_and_print (void)
+{
+  MpWindow *window = open_demo ();
+  MpDocument *doc = mp_window_get_document (window);
+  const MpSchedule *schedule = mp_document_get_schedule (doc);
+  g_autofree char *csv_path = g_build_filename (state_dir, "out.csv", NULL);
+  g_autofree char *pdf_path = g_build_filename (state_dir, "out.pdf", NULL);
+  g_autofree char *print_path = g_build_filename (state_dir, "printed.pdf", NULL);
+  g_autofree char *csv = NULL;
+  g_autofree char *pdf = NULL;
+  g_auto (GStrv) lines = NULL;
+  g_autoptr (GError) error = NULL;
+  g_autoptr (MpSheet) sheet = NULL;
+  gsize length = 0;
+  guint n_lines = 0;
+
+  /* CSV: a header and one row per step. */
+  g_assert_true (mp_window_export_csv (window, csv_path, &error));
+  g_assert_no_error (error);
+  g_assert_true (g_file_get_contents (csv_path, &csv, NULL, NULL));
+  lines = g_strsplit (csv, "\n", -1);
+  for (guint i = 0; lines[i] != NULL; i++)
+    if (*lines[i] != '\0' && *lines[i] != '#')
+      n_lines++;
+  g_assert_cmpuint (n_lines, ==, (guint) mp_schedule_count_steps (schedule) + 1);
+
+  /* The exported run sheet is a PDF. */
+  g_assert_true (mp_window_export_pdf (window, pdf_path, &error));
+  g_assert_no_error (error);
+  g_assert_true (g_file_get_contents (pdf_path, &pdf, &length, NULL));
+  g_assert_true (length > 4 && memcmp (pdf, "%PDF", 4) == 0);
+  g_clear_pointer (&pdf, g_free);
+
+  /* Printing goes through GtkPrintOperation page by page: exported to a
+   * file it has as many pages as the sheet laid out on A4. */
+  g_assert_cmpint (mp_window_print (window, print_path, &error), ==, GTK_PRINT_OPERATION_RESULT_APPLY);
+  g_assert_no_error (error);
+  g_assert_true (g_file_get_contents (print_path, &pdf, &length, NULL));
+  g_assert_true (length > 4 && memcmp (pdf, "%PDF", 4) == 0);
+  sheet = mp_sheet_new (mp_document_get_schedule_plan (doc), schedule, 595.276, 841.89, NULL);
+  g_assert_cmpuint (count_substrings (pdf, length, "/Type /Page"), ==, (guint) mp_sheet_get_n_pages (sheet));
+
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
 static GtkWindow *
 find_dialog (MpWindow *window)
 {
@@ -476,6 +535,7 @@ main (int argc, char *argv[])
   g_test_add_func ("/window/refused-value", test_refused_value);
   g_test_add_func ("/window/bad-file", test_bad_file);
   g_test_add_func ("/window/undo-redo", test_undo_redo);
+  g_test_add_func ("/window/export-and-print", test_export_and_print);
   g_test_add_func ("/window/temperature-blocks", test_temperature_blocks);
   g_test_add_func ("/window/modified-state", test_modified_state);
   g_test_add_func ("/window/close-prompt", test_close_prompt);

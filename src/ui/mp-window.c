@@ -664,17 +664,33 @@ paper_setting (MpWindow *self)
   return paper;
 }
 
+gboolean
+mp_window_export_pdf (MpWindow *self, const char *path, GError **error)
+{
+  const MpSchedule *schedule;
+
+  g_return_val_if_fail (MP_IS_WINDOW (self), FALSE);
+  g_return_val_if_fail (path != NULL, FALSE);
+
+  schedule = mp_document_get_schedule (self->document);
+  if (schedule == NULL)
+    {
+      g_set_error (error, G_IO_ERROR, G_IO_ERROR_FAILED, _("There is no schedule to export yet"));
+      return FALSE;
+    }
+  return mp_sheet_write_pdf (mp_document_get_schedule_plan (self->document), schedule,
+                             paper_setting (self), path, error);
+}
+
 static void
 export_pdf_done (MpWindow *self, GFile *file)
 {
   g_autofree char *path = g_file_get_path (file);
   g_autoptr (GError) error = NULL;
-  const MpSchedule *schedule = mp_document_get_schedule (self->document);
 
-  if (path == NULL || schedule == NULL)
+  if (path == NULL)
     return;
-  if (!mp_sheet_write_pdf (mp_document_get_schedule_plan (self->document), schedule,
-                           paper_setting (self), path, &error))
+  if (!mp_window_export_pdf (self, path, &error))
     show_error (self, _("Could not export the run sheet: %s"), error->message);
   else
     remember_directory (self, file);
@@ -690,20 +706,35 @@ export_pdf_action (GSimpleAction *action, GVariant *param, gpointer user_data)
                export_pdf_done, _("PDF documents"), "application/pdf", "pdf");
 }
 
+gboolean
+mp_window_export_csv (MpWindow *self, const char *path, GError **error)
+{
+  const MpSchedule *schedule;
+  g_autofree char *csv = NULL;
+
+  g_return_val_if_fail (MP_IS_WINDOW (self), FALSE);
+  g_return_val_if_fail (path != NULL, FALSE);
+
+  schedule = mp_document_get_schedule (self->document);
+  if (schedule == NULL)
+    {
+      g_set_error (error, G_IO_ERROR, G_IO_ERROR_FAILED, _("There is no schedule to export yet"));
+      return FALSE;
+    }
+  csv = mp_schedule_to_csv (schedule);
+  return g_file_set_contents (path, csv, -1, error);
+}
+
 static void
 export_csv_done (MpWindow *self, GFile *file)
 {
   g_autofree char *path = g_file_get_path (file);
-  g_autofree char *csv = NULL;
   g_autoptr (GError) error = NULL;
-  const MpSchedule *schedule = mp_document_get_schedule (self->document);
 
-  if (path == NULL || schedule == NULL)
+  if (path == NULL)
     return;
-  csv = mp_schedule_to_csv (schedule);
-  if (csv == NULL || !g_file_set_contents (path, csv, -1, &error))
-    show_error (self, _("Could not export the schedule: %s"),
-                error != NULL ? error->message : _("no data"));
+  if (!mp_window_export_csv (self, path, &error))
+    show_error (self, _("Could not export the schedule: %s"), error->message);
   else
     remember_directory (self, file);
 }
@@ -775,26 +806,31 @@ copy_schedule (const MpPlan *plan)
   return mp_schedule_compute (plan, &opts, NULL);
 }
 
-static void
-print_action (GSimpleAction *action, GVariant *param, gpointer user_data)
+GtkPrintOperationResult
+mp_window_print (MpWindow *self, const char *export_path, GError **error)
 {
-  MpWindow *self = MP_WINDOW (user_data);
   g_autoptr (GtkPrintOperation) op = NULL;
   g_autoptr (GtkPageSetup) setup = gtk_page_setup_new ();
-  g_autoptr (GError) error = NULL;
-  const MpPlan *plan = mp_document_get_schedule_plan (self->document);
+  const MpPlan *plan;
   PrintJob *job;
   GtkPaperSize *paper;
 
+  g_return_val_if_fail (MP_IS_WINDOW (self), GTK_PRINT_OPERATION_RESULT_ERROR);
+
+  plan = mp_document_get_schedule_plan (self->document);
   if (plan == NULL)
-    return;
+    {
+      g_set_error (error, G_IO_ERROR, G_IO_ERROR_FAILED, _("There is no schedule to print yet"));
+      return GTK_PRINT_OPERATION_RESULT_ERROR;
+    }
   job = g_new0 (PrintJob, 1);
   job->plan = mp_plan_copy (plan);
   job->schedule = copy_schedule (job->plan);
   if (job->schedule == NULL)
     {
       print_job_free (job);
-      return;
+      g_set_error (error, G_IO_ERROR, G_IO_ERROR_FAILED, _("The plan cannot be scheduled"));
+      return GTK_PRINT_OPERATION_RESULT_ERROR;
     }
   op = gtk_print_operation_new ();
   paper = gtk_paper_size_new (paper_setting (self) == MP_PAPER_LETTER
@@ -802,6 +838,7 @@ print_action (GSimpleAction *action, GVariant *param, gpointer user_data)
   gtk_page_setup_set_paper_size (setup, paper);
   gtk_paper_size_free (paper);
   gtk_print_operation_set_default_page_setup (op, setup);
+  /* The run sheet lays itself out in points from the page's top-left. */
   gtk_print_operation_set_unit (op, GTK_UNIT_POINTS);
   gtk_print_operation_set_use_full_page (op, TRUE);
   gtk_print_operation_set_embed_page_setup (op, TRUE);
@@ -809,11 +846,24 @@ print_action (GSimpleAction *action, GVariant *param, gpointer user_data)
   g_object_set_data_full (G_OBJECT (op), "job", job, print_job_free);
   g_signal_connect (op, "begin-print", G_CALLBACK (begin_print_cb), job);
   g_signal_connect (op, "draw-page", G_CALLBACK (draw_page_cb), job);
+  if (export_path != NULL)
+    {
+      gtk_print_operation_set_export_filename (op, export_path);
+      return gtk_print_operation_run (op, GTK_PRINT_OPERATION_ACTION_EXPORT, GTK_WINDOW (self), error);
+    }
   g_signal_connect (op, "done", G_CALLBACK (print_done_cb), self);
   gtk_print_operation_set_allow_async (op, TRUE);
-  if (gtk_print_operation_run (op, GTK_PRINT_OPERATION_ACTION_PRINT_DIALOG,
-                               GTK_WINDOW (self), &error) == GTK_PRINT_OPERATION_RESULT_ERROR)
-    show_error (self, _("Printing failed: %s"), error->message);
+  return gtk_print_operation_run (op, GTK_PRINT_OPERATION_ACTION_PRINT_DIALOG, GTK_WINDOW (self), error);
+}
+
+static void
+print_action (GSimpleAction *action, GVariant *param, gpointer user_data)
+{
+  MpWindow *self = MP_WINDOW (user_data);
+  g_autoptr (GError) error = NULL;
+
+  if (mp_window_print (self, NULL, &error) == GTK_PRINT_OPERATION_RESULT_ERROR)
+    show_error (self, _("Printing failed: %s"), error != NULL ? error->message : "");
 }
 
 /* ---- Other actions --------------------------------------------------- */

@@ -33,6 +33,13 @@ void mp_window_respond_recovery (MpWindow *self, gboolean recover);
 void mp_window_enable_action (MpWindow *self, const char *name,
                               GCallback activate, gpointer user_data);
 
+/* What the Export and Print commands do. mp_window_print() shows the
+ * print dialog, or with export_path writes the printed pages to a PDF
+ * through GtkPrintOperation (no dialog). */
+gboolean mp_window_export_pdf (MpWindow *self, const char *path, GError **error);
+gboolean mp_window_export_csv (MpWindow *self, const char *path, GError **error);
+GtkPrintOperationResult mp_window_print (MpWindow *self, const char *export_path, GError **error);
+
 /* For tests and screenshots. */
 GtkWidget *mp_window_get_editor (MpWindow *self);
 GtkWidget *mp_window_get_schedule_view (MpWindow *self);
