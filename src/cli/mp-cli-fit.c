@@ -114,7 +114,8 @@ build_fit_json (const MpFitResult *fit)
   json_builder_add_string_value (b, fit->qe_sigma_from_data ? "data" : "scatter");
   add_number (b, "qe_scatter", fit->qe_scatter);
   json_builder_set_member_name (b, "mte_sigma_source");
-  json_builder_add_string_value (b, fit->mte_sigma_from_data ? "data" : "scatter");
+  json_builder_add_string_value (b, fit->mte_sigma_from_data ? "data"
+                                    : isfinite (fit->mte_scatter_meV) ? "scatter" : "none");
   add_number (b, "mte_scatter_meV", fit->mte_scatter_meV);
   add_blocks_json (b, fit);
   add_residuals_json (b, fit);

@@ -744,7 +744,7 @@ init_weights (FitProblem *fp, MpFitResult *r)
   /* Provisional scatter where the data carry no sigma: 5 % in QE, 1 meV
    * in MTE; re-estimated from the residuals by solve_reweighted(). */
   r->qe_scatter = r->qe_sigma_from_data ? NAN : 0.05;
-  r->mte_scatter_meV = r->mte_sigma_from_data ? NAN : 1.0;
+  r->mte_scatter_meV = r->mte_sigma_from_data || !kinds_mixed (fp) ? NAN : 1.0;
   set_kind_sigma (fp, MP_FIT_RESIDUAL_QE, r->qe_scatter);
   set_kind_sigma (fp, MP_FIT_RESIDUAL_MTE, r->mte_scatter_meV);
 }
