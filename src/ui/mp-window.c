@@ -1055,12 +1055,11 @@ apply_split (MpWindow *self, GtkPaned *paned)
 
       gtk_widget_measure (GTK_WIDGET (self->editor), GTK_ORIENTATION_HORIZONTAL, -1,
                           &min_size, &natural, NULL, NULL);
-      position = MAX (min_size, MIN (540, max / 2));
+      position = MAX (min_size, MIN (540, gtk_widget_get_width (GTK_WIDGET (paned)) / 2));
     }
   else
-    position = (int) (max * 0.55);
-  g_object_set_data (G_OBJECT (paned), "auto-position", GINT_TO_POINTER (position));
-  gtk_paned_set_position (paned, position);
+    position = (int) (gtk_widget_get_height (GTK_WIDGET (paned)) * 0.55);
+  gtk_paned_set_position (paned, MIN (position, max));
 }
 
 static void
@@ -1070,14 +1069,28 @@ pane_max_position_cb (GtkPaned *paned, GParamSpec *pspec, MpWindow *self)
     apply_split (self, paned);
 }
 
+/* A press on the pane's handle means the user places it from now on. */
 static void
-pane_position_cb (GtkPaned *paned, GParamSpec *pspec, MpWindow *self)
+pane_pressed_cb (GtkGestureClick *gesture, int n_press, double x, double y, gpointer user_data)
 {
-  int automatic = GPOINTER_TO_INT (g_object_get_data (G_OBJECT (paned), "auto-position"));
+  GtkPaned *paned = GTK_PANED (gtk_event_controller_get_widget (GTK_EVENT_CONTROLLER (gesture)));
+  double along = gtk_orientable_get_orientation (GTK_ORIENTABLE (paned)) == GTK_ORIENTATION_HORIZONTAL
+                 ? x : y;
+  int position = gtk_paned_get_position (paned);
 
-  if (automatic > 0 && ABS (gtk_paned_get_position (paned) - automatic) > 2
-      && gtk_widget_get_mapped (GTK_WIDGET (paned)))
+  if (along >= position - 8 && along <= position + 12)
     g_object_set_data (G_OBJECT (paned), "user-moved", GINT_TO_POINTER (1));
+}
+
+static void
+watch_pane (MpWindow *self, GtkPaned *paned)
+{
+  GtkGesture *click = gtk_gesture_click_new ();
+
+  gtk_event_controller_set_propagation_phase (GTK_EVENT_CONTROLLER (click), GTK_PHASE_CAPTURE);
+  g_signal_connect (click, "pressed", G_CALLBACK (pane_pressed_cb), NULL);
+  gtk_widget_add_controller (GTK_WIDGET (paned), GTK_EVENT_CONTROLLER (click));
+  g_signal_connect (paned, "notify::max-position", G_CALLBACK (pane_max_position_cb), self);
 }
 
 /* ---- Selection between table and plots -------------------------------- */
@@ -1153,6 +1166,17 @@ screenshot_cb (gpointer user_data)
   if ((mp_document_get_busy (self->document) || mp_document_get_schedule_serial (self->document) == 0)
       && tries++ < 40)
     return G_SOURCE_CONTINUE;
+  if (g_object_get_data (G_OBJECT (self), "screenshot-type") != NULL)
+    {
+      /* KEY=TEXT: typed into a field, to show how a value is refused. */
+      g_auto (GStrv) parts = g_strsplit (g_object_get_data (G_OBJECT (self), "screenshot-type"), "=", 2);
+      GtkEditable *entry = parts[0] != NULL ? mp_plan_editor_get_entry (self->editor, parts[0]) : NULL;
+
+      if (entry != NULL && parts[1] != NULL)
+        gtk_editable_set_text (entry, parts[1]);
+      g_object_set_data (G_OBJECT (self), "screenshot-type", NULL);
+      return G_SOURCE_CONTINUE;
+    }
   if (g_object_get_data (G_OBJECT (self), "screenshot-step") != NULL)
     {
       /* Select the step now that the table is on screen, shoot next tick. */
@@ -1200,6 +1224,8 @@ setup_screenshot (MpWindow *self)
     gtk_window_set_default_size (GTK_WINDOW (self), width, height);
   if (step != NULL)
     g_object_set_data (G_OBJECT (self), "screenshot-step", GINT_TO_POINTER (atoi (step)));
+  g_object_set_data_full (G_OBJECT (self), "screenshot-type",
+                          g_strdup (g_getenv ("MTEPLAN_SCREENSHOT_TYPE")), g_free);
   g_timeout_add (1500, screenshot_cb, self);
 }
 
@@ -1355,12 +1381,8 @@ mp_window_init (MpWindow *self)
   mp_plan_editor_set_document (self->editor, self->document);
   mp_schedule_view_set_document (self->schedule_view, self->document);
   add_plots (self);
-  g_signal_connect (self->main_paned, "notify::max-position",
-                    G_CALLBACK (pane_max_position_cb), self);
-  g_signal_connect (self->result_paned, "notify::max-position",
-                    G_CALLBACK (pane_max_position_cb), self);
-  g_signal_connect (self->main_paned, "notify::position", G_CALLBACK (pane_position_cb), self);
-  g_signal_connect (self->result_paned, "notify::position", G_CALLBACK (pane_position_cb), self);
+  watch_pane (self, self->main_paned);
+  watch_pane (self, self->result_paned);
 
   name = g_strdup_printf ("autosave-%d-%u.mteplan", (int) getpid (), ++counter);
   self->autosave_path = g_build_filename (dir, name, NULL);
