@@ -44,11 +44,34 @@ new_window_action (GSimpleAction *action, GVariant *param, gpointer user_data)
 }
 
 static void
+help_shown_cb (GObject *source, GAsyncResult *result, gpointer user_data)
+{
+  g_autoptr (GtkWindow) window = user_data;
+  g_autoptr (GError) error = NULL;
+  GtkWidget *dialog;
+
+  if (gtk_show_uri_full_finish (GTK_WINDOW (source), result, &error))
+    return;
+  dialog = gtk_message_dialog_new (window, GTK_DIALOG_MODAL | GTK_DIALOG_DESTROY_WITH_PARENT,
+                                   GTK_MESSAGE_ERROR, GTK_BUTTONS_CLOSE,
+                                   _("The help could not be opened"));
+  gtk_message_dialog_format_secondary_text (GTK_MESSAGE_DIALOG (dialog),
+                                            _("%s\nA help viewer for “help:” addresses "
+                                              "(such as Yelp) is needed."),
+                                            error->message);
+  g_signal_connect (dialog, "response", G_CALLBACK (gtk_window_destroy), NULL);
+  gtk_window_present (GTK_WINDOW (dialog));
+}
+
+static void
 help_action (GSimpleAction *action, GVariant *param, gpointer user_data)
 {
   GtkWindow *window = gtk_application_get_active_window (GTK_APPLICATION (user_data));
 
-  gtk_show_uri (window, "help:mteplan", GDK_CURRENT_TIME);
+  if (window == NULL)
+    return;
+  gtk_show_uri_full (window, "help:mteplan", GDK_CURRENT_TIME, NULL,
+                     help_shown_cb, g_object_ref (window));
 }
 
 static void
@@ -123,6 +146,12 @@ mp_application_startup (GApplication *application)
   load_settings (self);
   g_action_map_add_action_entries (G_ACTION_MAP (self), app_entries,
                                    G_N_ELEMENTS (app_entries), self);
+  if (self->settings != NULL)
+    {
+      g_autoptr (GAction) paper = g_settings_create_action (self->settings, "paper-size");
+
+      g_action_map_add_action (G_ACTION_MAP (self), paper);
+    }
   for (guint i = 0; i < G_N_ELEMENTS (accels); i++)
     gtk_application_set_accels_for_action (GTK_APPLICATION (self), accels[i].action,
                                            accels[i].accels);
