@@ -396,6 +396,22 @@ test_refuse_degenerate (void)
 }
 
 static void
+test_refuse_implausible_temperature (void)
+{
+  /* MTE written in the wrong unit (x 30): no plausible effective
+   * temperature describes it; the fit says so instead of reporting
+   * 1500 K electrons on a 40 K cathode. */
+  g_autoptr (MpPlan) plan = make_plan (5.0);
+  g_autoptr (GRand) rng = g_rand_new_with_seed (10);
+  Synth s = { temps_cold, 1, 1.0, FALSE, -0.06, 0.20, 14, 0.05, FALSE, 0.1, 0.01 };
+  g_autoptr (MpMeasuredData) data = synth_data (plan, &s, rng);
+
+  for (guint i = 0; i < data->points->len; i++)
+    g_array_index (data->points, MpMeasuredPoint, i).mte_meV *= 30.0;
+  assert_undetermined (plan, data, NULL, "check the units");
+}
+
+static void
 test_refuse_not_converged (void)
 {
   g_autoptr (MpPlan) plan = make_plan (5.0);
@@ -471,6 +487,7 @@ main (int argc, char **argv)
   g_test_add_func ("/fit/refuse/far-above", test_refuse_far_above);
   g_test_add_func ("/fit/refuse/far-below", test_refuse_far_below);
   g_test_add_func ("/fit/refuse/degenerate", test_refuse_degenerate);
+  g_test_add_func ("/fit/refuse/implausible-temperature", test_refuse_implausible_temperature);
   g_test_add_func ("/fit/refuse/not-converged", test_refuse_not_converged);
   g_test_add_func ("/fit/cancelled", test_cancelled);
   g_test_add_func ("/fit/apply-to-plan", test_apply_to_plan);

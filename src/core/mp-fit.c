@@ -25,6 +25,13 @@
 /* Parameters whose estimates correlate closer than this to +-1 are not
  * separately determined. */
 #define MP_FIT_DEGENERATE_1_MINUS_RHO 1e-6
+/* Effective temperatures outside this range of the cathode's mean a model
+ * that does not describe the data (common practice, no source: electron
+ * heating by the laser stays well below tenfold). */
+#define MP_FIT_MIN_THERMAL_RATIO 0.1
+#define MP_FIT_MAX_THERMAL_RATIO 10.0
+/* |ln(T_eff/T)| the model evaluates at most (a factor of 150). */
+#define MP_FIT_MAX_U 5.0
 /* Grid search for the starting work function: points used at most. */
 #define MP_FIT_GRID_MAX_POINTS 400
 
@@ -94,7 +101,9 @@ obs_temperature_K (const FitProblem *fp, const Observation *o, const double *x)
 {
   if (!obs_uses_u (fp, o))
     return o->temperature_K;
-  return o->temperature_K * exp (x[fp->u_param[o->block]]);
+  /* Bounded so that a runaway step stays finite; check_temperatures_plausible
+   * refuses results near the bounds. */
+  return o->temperature_K * exp (CLAMP (x[fp->u_param[o->block]], -MP_FIT_MAX_U, MP_FIT_MAX_U));
 }
 
 /* Model value of one observation, in the units of o->y. */
@@ -523,6 +532,35 @@ check_blocks_pin_temperature (const FitProblem *fp, const double *x, GError **er
   return TRUE;
 }
 
+/* A fitted temperature far from the cathode's means the model cannot
+ * describe the data at all (wrong units, a wrong column, MTE below dE/3
+ * far above threshold), not that the electrons are that hot or cold. */
+static gboolean
+check_temperatures_plausible (const FitProblem *fp, const double *x, GError **error)
+{
+  for (guint b = 0; b < fp->blocks->len; b++)
+    {
+      const MpFitBlock *blk = &g_array_index (fp->blocks, MpFitBlock, b);
+      double ratio;
+
+      if (fp->u_param[b] < 0)
+        continue;
+      ratio = exp (CLAMP (x[fp->u_param[b]], -MP_FIT_MAX_U, MP_FIT_MAX_U));
+      if (ratio < MP_FIT_MIN_THERMAL_RATIO || ratio > MP_FIT_MAX_THERMAL_RATIO)
+        {
+          g_set_error (error, MP_ERROR, MP_ERROR_UNDETERMINED,
+                       "%g K: the model describes these data only with an effective "
+                       "temperature of %.3g K, outside %g to %g times the cathode's; "
+                       "check the units of the MTE and QE columns and the plan's work "
+                       "function and field",
+                       blk->temperature_K, blk->temperature_K * ratio,
+                       MP_FIT_MIN_THERMAL_RATIO, MP_FIT_MAX_THERMAL_RATIO);
+          return FALSE;
+        }
+    }
+  return TRUE;
+}
+
 /* One temperature, every QE point far below threshold: the yield is
  * exp((E - phi)/kT) there, so phi and ln A enter only as ln A - phi/kT.
  * (At several temperatures the Boltzmann slopes differ and separate them,
@@ -847,6 +885,18 @@ fill_result (const FitProblem *fp, const MpPlan *plan, const gsl_vector *xv,
     }
 }
 
+/* Before the fit: coverage of the data at the nominal temperatures. */
+static gboolean
+check_data_cover (const FitProblem *fp, const gsl_vector *start, GError **error)
+{
+  g_autofree double *x = g_new0 (double, fp->n_params);
+
+  x[P_PHI] = gsl_vector_get (start, P_PHI);
+  x[P_LOG_A] = gsl_vector_get (start, P_LOG_A);
+  return check_blocks_pin_temperature (fp, x, error) &&
+         check_not_all_far_below (fp, x, error);
+}
+
 MpFitResult *
 mp_fit_measured (const MpPlan *plan,
                  const MpMeasuredData *data,
@@ -882,9 +932,9 @@ mp_fit_measured (const MpPlan *plan,
       covar = gsl_matrix_alloc (fp.n_params, fp.n_params);
       init_weights (&fp, r);
       start_point (&fp, plan, x);
-      ok = check_blocks_pin_temperature (&fp, x->data, error) &&
-           check_not_all_far_below (&fp, x->data, error) &&
+      ok = check_data_cover (&fp, x, error) &&
            solve_reweighted (&fp, x, opts, cancellable, r, error) &&
+           check_temperatures_plausible (&fp, x->data, error) &&
            check_blocks_pin_temperature (&fp, x->data, error) &&
            check_not_all_far_below (&fp, x->data, error) &&
            compute_covariance (&fp, x, covar, error);
