@@ -42,7 +42,7 @@ add_string (JsonBuilder *b, const char *key, const char *value)
 }
 
 static void
-add_step (JsonBuilder *b, const MpStep *s)
+add_step (JsonBuilder *b, const MpStep *s, double reserve_L)
 {
   json_builder_begin_object (b);
   add_int (b, "index", s->index);
@@ -61,7 +61,10 @@ add_step (JsonBuilder *b, const MpStep *s)
   add_number (b, "reached_sigma_meV", s->reached_sigma_meV);
   add_number (b, "start_h", s->start_h);
   add_number (b, "end_h", s->end_h);
-  add_number (b, "cryogen_left_L", s->cryogen_left_L);
+  /* plan-format.md: litres left above the reserve, so that it counts down
+   * to 0 from cryogen_available_L; dewar_level_L is the gauge reading. */
+  add_number (b, "cryogen_left_L", s->cryogen_left_L - reserve_L);
+  add_number (b, "dewar_level_L", s->cryogen_left_L);
   add_string (b, "status", mp_step_status_to_string (s->status));
   add_int (b, "priority", s->priority);
   add_bool (b, "done", s->done);
@@ -69,7 +72,7 @@ add_step (JsonBuilder *b, const MpStep *s)
 }
 
 static void
-add_block (JsonBuilder *b, const MpBlock *block)
+add_block (JsonBuilder *b, const MpBlock *block, double reserve_L)
 {
   json_builder_begin_object (b);
   add_number (b, "temperature_K", block->temperature_K);
@@ -91,7 +94,7 @@ add_block (JsonBuilder *b, const MpBlock *block)
   json_builder_set_member_name (b, "steps");
   json_builder_begin_array (b);
   for (guint i = 0; i < block->steps->len; i++)
-    add_step (b, &g_array_index (block->steps, MpStep, i));
+    add_step (b, &g_array_index (block->steps, MpStep, i), reserve_L);
   json_builder_end_array (b);
   json_builder_end_object (b);
 }
@@ -137,7 +140,7 @@ mp_schedule_to_json (const MpSchedule *schedule)
   json_builder_set_member_name (b, "blocks");
   json_builder_begin_array (b);
   for (guint i = 0; i < schedule->blocks->len; i++)
-    add_block (b, g_ptr_array_index (schedule->blocks, i));
+    add_block (b, g_ptr_array_index (schedule->blocks, i), schedule->cryogen_reserve_L);
   json_builder_end_array (b);
 
   json_builder_set_member_name (b, "left_out");
@@ -231,7 +234,7 @@ mp_schedule_to_csv (const MpSchedule *schedule)
   out = g_string_new ("block_temperature_K,index,kind,wavelength_nm,photon_energy_eV,"
                       "excess_energy_eV,qe,transmission,optical_density,signal_rate_per_s,"
                       "mte_meV,target_sigma_meV,required_dwell_s,dwell_s,reached_sigma_meV,"
-                      "start_h,end_h,cryogen_left_L,status,priority,done\n");
+                      "start_h,end_h,cryogen_left_L,dewar_level_L,status,priority,done\n");
   for (guint b = 0; b < schedule->blocks->len; b++)
     {
       const MpBlock *block = g_ptr_array_index (schedule->blocks, b);
@@ -258,6 +261,7 @@ mp_schedule_to_csv (const MpSchedule *schedule)
           csv_number (out, s->reached_sigma_meV);
           csv_number (out, s->start_h);
           csv_number (out, s->end_h);
+          csv_number (out, s->cryogen_left_L - schedule->cryogen_reserve_L);
           csv_number (out, s->cryogen_left_L);
           csv_text (out, mp_step_status_to_string (s->status));
           g_string_append_printf (out, ",%d", s->priority);

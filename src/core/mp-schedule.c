@@ -1793,6 +1793,7 @@ schedule_from_planner (MpPlanner *p)
   schedule->effective_work_function_eV = p->phi_eff_eV;
   schedule->beam_time_available_h = p->avail_h;
   schedule->cryogen_available_L = p->avail_L;
+  schedule->cryogen_reserve_L = p->plan->cryostat.reserve_L;
   schedule->blocks = g_ptr_array_new_with_free_func (mp_block_free);
   warn_about_steps (p);
   lay_out_timeline (p, schedule);

@@ -43,7 +43,9 @@ typedef struct
   double reached_sigma_meV;
   double start_h;              /* from shift start */
   double end_h;
-  double cryogen_left_L;       /* after the step, above nothing (not reserve) */
+  double cryogen_left_L;       /* absolute dewar level after the step; the JSON and
+                                * CSV key cryogen_left_L is this minus the reserve
+                                * (plan-format.md), dewar_level_L is this */
   MpStepStatus status;
   int priority;                /* 1 = most important; larger = skip first */
   gboolean done;               /* already measured (re-plan) */
@@ -99,6 +101,7 @@ typedef struct
   double beam_time_available_h;
   double cryogen_L;            /* planned total */
   double cryogen_available_L;  /* budget - reserve */
+  double cryogen_reserve_L;    /* the plan's reserve */
   GPtrArray *blocks;           /* MpBlock* */
   GArray *left_out;            /* MpLeftOut */
   GPtrArray *warnings;         /* char*, translated, for people */
