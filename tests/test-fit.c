@@ -392,7 +392,7 @@ test_refuse_degenerate (void)
   Synth s = { t295, 1, 1.0, FALSE, 0.05, 0.05, 6, 0.02, FALSE, 0.0, 0.0 };
   g_autoptr (MpMeasuredData) data = synth_data (plan, &s, rng);
 
-  assert_undetermined (plan, data, NULL, "the data cannot determine");
+  assert_undetermined (plan, data, NULL, "the data cannot determine the QE scale separately from the work function");
 }
 
 static void

@@ -614,8 +614,35 @@ parameter_name (const FitProblem *fp, int k, char *buf, gsize len)
   return "a parameter";
 }
 
+/* The parameter whose Jacobian column is most nearly parallel to column k. */
+static int
+most_collinear (const gsl_matrix *jac, int k)
+{
+  gsl_vector_const_view ck = gsl_matrix_const_column (jac, k);
+  double nk = gsl_blas_dnrm2 (&ck.vector), best = -1.0;
+  int partner = -1;
+
+  for (size_t l = 0; l < jac->size2; l++)
+    {
+      gsl_vector_const_view cl = gsl_matrix_const_column (jac, l);
+      double dot, nl = gsl_blas_dnrm2 (&cl.vector), c;
+
+      if ((int) l == k || !(nl > 0.0) || !(nk > 0.0))
+        continue;
+      gsl_blas_ddot (&ck.vector, &cl.vector, &dot);
+      c = fabs (dot) / (nk * nl);
+      if (c > best)
+        {
+          best = c;
+          partner = l;
+        }
+    }
+  return partner;
+}
+
 static gboolean
-check_covariance (const FitProblem *fp, const gsl_matrix *covar, GError **error)
+check_covariance (const FitProblem *fp, const gsl_matrix *jac,
+                  const gsl_matrix *covar, GError **error)
 {
   char b1[64], b2[64];
   int p = fp->n_params;
@@ -623,15 +650,23 @@ check_covariance (const FitProblem *fp, const gsl_matrix *covar, GError **error)
   for (int k = 0; k < p; k++)
     {
       double v = gsl_matrix_get (covar, k, k);
+      int partner;
 
-      if (!(v > 0.0) || !isfinite (v))
-        {
-          g_set_error (error, MP_ERROR, MP_ERROR_UNDETERMINED,
-                       "the data cannot determine %s (singular fit: it trades off "
-                       "exactly against the other parameters)",
-                       parameter_name (fp, k, b1, sizeof b1));
-          return FALSE;
-        }
+      if (v > 0.0 && isfinite (v))
+        continue;
+      partner = most_collinear (jac, k);
+      if (partner >= 0)
+        g_set_error (error, MP_ERROR, MP_ERROR_UNDETERMINED,
+                     "the data cannot determine %s separately from %s (singular "
+                     "fit: they change the model in the same way); add points that "
+                     "change them differently, e.g. at other photon energies",
+                     parameter_name (fp, k, b1, sizeof b1),
+                     parameter_name (fp, partner, b2, sizeof b2));
+      else
+        g_set_error (error, MP_ERROR, MP_ERROR_UNDETERMINED,
+                     "the data cannot determine %s (the model does not depend on it "
+                     "at these points)", parameter_name (fp, k, b1, sizeof b1));
+      return FALSE;
     }
   for (int k = 0; k < p; k++)
     for (int l = k + 1; l < p; l++)
@@ -792,20 +827,23 @@ compute_covariance (FitProblem *fp, const gsl_vector *x, gsl_matrix *covar,
                     GError **error)
 {
   gsl_matrix *jac = gsl_matrix_alloc (fp->obs->len, fp->n_params);
+  gboolean ok;
   int status;
 
   status = residual_df (x, fp, jac);
   if (status == GSL_SUCCESS)
     status = gsl_multifit_nlinear_covar (jac, 1e-12, covar);
-  gsl_matrix_free (jac);
   if (status != GSL_SUCCESS)
     {
+      gsl_matrix_free (jac);
       g_set_error (error, MP_ERROR, MP_ERROR_UNDETERMINED,
                    "the fit's covariance could not be computed (%s)",
                    gsl_strerror (status));
       return FALSE;
     }
-  return check_covariance (fp, covar, error);
+  ok = check_covariance (fp, jac, covar, error);
+  gsl_matrix_free (jac);
+  return ok;
 }
 
 static void
