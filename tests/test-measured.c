@@ -88,7 +88,7 @@ test_good_spreadsheet_export (void)
 {
   /* Byte-order mark, quoted header cells, CRLF, both energy and
    * wavelength (consistent), spaces around numbers, empty optional cells,
-   * upper-case exponent. */
+   * upper-case exponent, a note column with a quoted comma and quote. */
   g_autofree char *path = data_path ("measured", "spreadsheet-export.csv");
   g_autoptr (GError) error = NULL;
   g_autoptr (MpMeasuredData) data = mp_measured_load_from_file (path, &error);

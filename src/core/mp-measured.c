@@ -80,25 +80,34 @@ fail_cell (const ReaderState *st, MeasuredColumn col, const char *found, GError 
   return FALSE;
 }
 
+/* Splits one line at commas outside double quotes; quotes are removed
+ * ("" inside quotes is one quote) and cells are stripped of blanks. */
 static char **
 split_fields (const char *line)
 {
-  char **fields = g_strsplit (line, ",", -1);
+  GPtrArray *fields = g_ptr_array_new ();
+  GString *cell = g_string_new (NULL);
+  gboolean quoted = FALSE;
 
-  for (int i = 0; fields[i] != NULL; i++)
+  for (const char *c = line;; c++)
     {
-      char *f = g_strstrip (fields[i]);
-      gsize n = strlen (f);
-
-      /* Spreadsheets may quote every cell. */
-      if (n >= 2 && f[0] == '"' && f[n - 1] == '"')
+      if (*c == '"' && quoted && c[1] == '"')
+        g_string_append_c (cell, *c++);
+      else if (*c == '"')
+        quoted = !quoted;
+      else if (*c == '\0' || (*c == ',' && !quoted))
         {
-          memmove (f, f + 1, n - 2);
-          f[n - 2] = '\0';
-          g_strstrip (f);
+          g_ptr_array_add (fields, g_strdup (g_strstrip (cell->str)));
+          g_string_truncate (cell, 0);
+          if (*c == '\0')
+            break;
         }
+      else
+        g_string_append_c (cell, *c);
     }
-  return fields;
+  g_string_free (cell, TRUE);
+  g_ptr_array_add (fields, NULL);
+  return (char **) g_ptr_array_free (fields, FALSE);
 }
 
 static int
