@@ -28,8 +28,8 @@ done <<'LIST'
 small-cathode 1024x700 cathode qe 0
 small-laser 1024x700 laser mte 12
 small-cryostat 1024x700 cryostat timeline 30
-small-scan 1024x700 scan qe 0
-large-cathode 1600x1000 cathode qe 5
+small-scan 1024x700 scan all 0
+large-all 1600x1000 cathode all 5
 large-detector 1600x1000 detector mte 20
 large-timeline 1600x1000 scan timeline 40
 LIST

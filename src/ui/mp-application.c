@@ -126,6 +126,15 @@ load_settings (MpApplication *self)
 
   if (source != NULL)
     schema = g_settings_schema_source_lookup (source, MP_APP_ID, TRUE);
+  if (schema == NULL)
+    {
+      /* Running from the build tree: the schema compiled beside it. */
+      g_autoptr (GSettingsSchemaSource) build =
+        g_settings_schema_source_new_from_directory (MP_BUILD_DIR "/data", source, FALSE, NULL);
+
+      if (build != NULL)
+        schema = g_settings_schema_source_lookup (build, MP_APP_ID, FALSE);
+    }
   if (schema != NULL)
     self->settings = g_settings_new_full (schema, NULL, NULL);
   else

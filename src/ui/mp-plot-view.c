@@ -211,7 +211,7 @@ mp_plot_view_measure (GtkWidget      *widget,
                       int            *minimum_baseline,
                       int            *natural_baseline)
 {
-  *minimum = orientation == GTK_ORIENTATION_HORIZONTAL ? 240 : 160;
+  *minimum = orientation == GTK_ORIENTATION_HORIZONTAL ? 160 : 120;
   *natural = orientation == GTK_ORIENTATION_HORIZONTAL ? 520 : 300;
 }
 

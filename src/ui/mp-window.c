@@ -48,6 +48,7 @@ struct _MpWindow
   guint autosave_source;
   gboolean autosave_dirty;
   gboolean close_after_save;
+  gboolean plots_chosen;
   gboolean closing_confirmed;
 };
 
@@ -1056,6 +1057,10 @@ apply_split (MpWindow *self, GtkPaned *paned)
       gtk_widget_measure (GTK_WIDGET (self->editor), GTK_ORIENTATION_HORIZONTAL, -1,
                           &min_size, &natural, NULL, NULL);
       position = MAX (min_size, MIN (540, gtk_widget_get_width (GTK_WIDGET (paned)) / 2));
+      /* A large window shows all plots at once from the start. */
+      if (!self->plots_chosen && gtk_widget_get_width (GTK_WIDGET (paned)) >= 1400)
+        gtk_stack_set_visible_child_name (self->plot_stack, "all");
+      self->plots_chosen = TRUE;
     }
   else
     position = (int) (gtk_widget_get_height (GTK_WIDGET (paned)) * 0.55);
@@ -1101,39 +1106,56 @@ plot_step_clicked_cb (MpPlotView *view, int index, MpWindow *self)
   mp_schedule_view_set_selected_step (self->schedule_view, index);
 }
 
+static const struct
+{
+  MpPlotKind kind;
+  const char *name;
+  const char *title;
+  const char *description;
+} plot_pages[] = {
+  { MP_PLOT_QE_RATE, "qe", N_("QE & Rate"),
+    N_("Quantum efficiency and count rate against photon energy, one curve per temperature") },
+  { MP_PLOT_MTE, "mte", N_("MTE"),
+    N_("Predicted mean transverse energy against excess energy with target bars") },
+  { MP_PLOT_TIMELINE, "timeline", N_("Timeline"),
+    N_("Blocks and steps in time with the cryogen level, budget and reserve") },
+};
+
+static GtkWidget *
+plot_view_new (MpWindow *self, guint i)
+{
+  GtkWidget *view = mp_plot_view_new (plot_pages[i].kind);
+
+  mp_plot_view_set_document (MP_PLOT_VIEW (view), self->document);
+  gtk_accessible_update_property (GTK_ACCESSIBLE (view),
+                                  GTK_ACCESSIBLE_PROPERTY_LABEL, _(plot_pages[i].title),
+                                  GTK_ACCESSIBLE_PROPERTY_DESCRIPTION, _(plot_pages[i].description),
+                                  -1);
+  g_signal_connect (view, "step-clicked", G_CALLBACK (plot_step_clicked_cb), self);
+  g_object_bind_property (self->schedule_view, "selected-step", view, "selected-step",
+                          G_BINDING_DEFAULT);
+  return view;
+}
+
+/* One page per plot, and a page with all three for large screens. */
 static void
 add_plots (MpWindow *self)
 {
-  static const struct
-  {
-    MpPlotKind kind;
-    const char *name;
-    const char *title;
-    const char *description;
-  } plots[] = {
-    { MP_PLOT_QE_RATE, "qe", N_("QE & Rate"),
-      N_("Quantum efficiency and count rate against photon energy, one curve per temperature") },
-    { MP_PLOT_MTE, "mte", N_("MTE"),
-      N_("Predicted mean transverse energy against excess energy with target bars") },
-    { MP_PLOT_TIMELINE, "timeline", N_("Timeline"),
-      N_("Blocks and steps in time with the cryogen level, budget and reserve") },
-  };
+  GtkWidget *grid = gtk_grid_new ();
 
-  for (guint i = 0; i < G_N_ELEMENTS (plots); i++)
+  for (guint i = 0; i < G_N_ELEMENTS (plot_pages); i++)
     {
-      GtkWidget *view = mp_plot_view_new (plots[i].kind);
+      GtkWidget *view = plot_view_new (self, i);
 
-      mp_plot_view_set_document (MP_PLOT_VIEW (view), self->document);
-      gtk_accessible_update_property (GTK_ACCESSIBLE (view),
-                                      GTK_ACCESSIBLE_PROPERTY_LABEL, _(plots[i].title),
-                                      GTK_ACCESSIBLE_PROPERTY_DESCRIPTION, _(plots[i].description),
-                                      -1);
-      g_signal_connect (view, "step-clicked", G_CALLBACK (plot_step_clicked_cb), self);
-      g_object_bind_property (self->schedule_view, "selected-step", view, "selected-step",
-                              G_BINDING_DEFAULT);
-      gtk_stack_add_titled (self->plot_stack, view, plots[i].name, _(plots[i].title));
+      gtk_stack_add_titled (self->plot_stack, view, plot_pages[i].name, _(plot_pages[i].title));
       self->plots[i] = view;
     }
+  gtk_grid_set_row_homogeneous (GTK_GRID (grid), TRUE);
+  gtk_grid_set_column_homogeneous (GTK_GRID (grid), TRUE);
+  gtk_grid_attach (GTK_GRID (grid), plot_view_new (self, 0), 0, 0, 1, 1);
+  gtk_grid_attach (GTK_GRID (grid), plot_view_new (self, 1), 1, 0, 1, 1);
+  gtk_grid_attach (GTK_GRID (grid), plot_view_new (self, 2), 0, 1, 2, 1);
+  gtk_stack_add_titled (self->plot_stack, grid, "all", _("All Plots"));
 }
 
 /* ---- Screenshots (MTEPLAN_SCREENSHOT=file.png) ------------------------ */
@@ -1219,7 +1241,10 @@ setup_screenshot (MpWindow *self)
   if (page != NULL)
     mp_plan_editor_show_page (self->editor, page);
   if (plot != NULL)
-    mp_window_show_plot (self, plot);
+    {
+      mp_window_show_plot (self, plot);
+      self->plots_chosen = TRUE;
+    }
   if (size != NULL && sscanf (size, "%dx%d", &width, &height) == 2)
     gtk_window_set_default_size (GTK_WINDOW (self), width, height);
   if (step != NULL)
