@@ -435,6 +435,8 @@ test_recovery (void)
   mp_window_respond_recovery (window, TRUE);
   g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 5.5);
   g_assert_true (mp_document_get_modified (doc));
+  /* No origin was kept: the recovered plan is untitled, not the autosave. */
+  g_assert_null (mp_document_get_path (doc));
   g_assert_false (g_file_test (kept, G_FILE_TEST_EXISTS));
 
   gtk_window_destroy (GTK_WINDOW (window));

@@ -400,17 +400,14 @@ mp_window_respond_recovery (MpWindow *self, gboolean recover)
           show_error (self, _("The kept changes could not be read: %s"), error->message);
           return;
         }
+      /* The recovered plan belongs to the file it was edited from (or to
+       * none), never to the autosave file. */
       g_file_get_contents (origin_file, &origin, NULL, NULL);
+      g_free (plan->path);
+      plan->path = g_steal_pointer (&origin);
       mp_document_reset (self->document, plan, NULL);
-      if (origin != NULL)
-        {
-          MpPlan *copy = mp_document_dup_plan (self->document);
-
-          g_free (copy->path);
-          copy->path = g_strdup (origin);
-          mp_document_reset (self->document, copy, origin);
-        }
       mp_document_mark_modified (self->document);
+      update_title (self);
     }
   g_unlink (self->recover_path);
   g_unlink (origin_file);
