@@ -109,13 +109,11 @@ check "plan --measured --use-fit exits 0 or 1" '[ $rc -eq 0 ] || [ $rc -eq 1 ]'
 check "plan --use-fit says it uses the fitted work function" 'grep -q "fitted work function" "$tmp/err"'
 check "plan --use-fit schedules with the fitted work function" \
   "py 'import json,sys; s=json.load(open(\"$tmp/fit-plan.json\")); f=json.load(open(\"$tmp/fit.json\")); sys.exit(0 if abs(s[\"work_function_eV\"]-f[\"work_function_eV\"]) < 1e-9 else 1)'"
-# The fitted work function moves the scheduler's step grid by 40 meV: the
-# measured points off the new grid are then not shown as done steps (they
-# match only where old and new grids coincide). Known gap, owned by the
-# scheduler: marked TODO so that it shows without failing the suite.
+# The fitted work function moves the scheduler's step grid by 40 meV: every
+# measured point must still show as a done step (claimed by the nearest new
+# step, or kept as a done step of its own).
 d=$(py "import json; s=json.load(open('$tmp/fit-plan.json')); print(sum(1 for b in s['blocks'] for t in b['steps'] if t.get('done')))")
-if [ "$d" -eq 22 ]; then ok "plan --use-fit still marks the 22 measured steps done"
-else n=$((n+1)); echo "not ok $n - plan --use-fit still marks the 22 measured steps done (found $d) # TODO done points off the re-fitted grid"; fi
+check "plan --use-fit still marks the 22 measured steps done (found $d)" '[ "$d" -eq 22 ]'
 bad "plan --measured with bad data" 'measured-qe-text.csv:7' \
   plan "$plan" --measured "$src/tests/data/bad/measured-qe-text.csv"
 bad "plan --use-fit without --measured" "--use-fit" plan "$plan" --use-fit

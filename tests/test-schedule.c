@@ -769,6 +769,58 @@ test_dense_scan_matches_direct_model (void)
   g_assert_cmpint (s->sensitivity_high.n_left_out, ==, 0);
 }
 
+static int
+count_steps (const MpSchedule *schedule, gboolean done_only)
+{
+  int n = 0;
+
+  for (guint b = 0; b < schedule->blocks->len; b++)
+    {
+      const MpBlock *block = g_ptr_array_index (schedule->blocks, b);
+
+      for (guint i = 0; i < block->steps->len; i++)
+        n += !done_only || g_array_index (block->steps, MpStep, i).done;
+    }
+  return n;
+}
+
+/* Measured points off the step grid (a refit moved it) still show as done:
+ * claimed by the nearest step within half the finest spacing, otherwise
+ * kept as done steps of their own. */
+static void
+test_done_points_off_grid (void)
+{
+  g_autoptr (MpPlan) plan = mp_plan_new_default ();
+  g_autoptr (MpSchedule) before = NULL;
+  g_autoptr (MpSchedule) after = NULL;
+  g_autoptr (GArray) done = g_array_new (FALSE, FALSE, sizeof (MpDonePoint));
+  MpScheduleOptions opts;
+  const MpBlock *block;
+  const MpStep *first;
+  MpDonePoint near, far;
+  double spacing_eV;
+
+  mp_schedule_options_init (&opts);
+  opts.no_sensitivity = TRUE;
+  before = mp_schedule_compute (plan, &opts, NULL);
+  g_assert_nonnull (before);
+  block = g_ptr_array_index (before->blocks, 0);
+  first = &g_array_index (block->steps, MpStep, 0);
+  spacing_eV = plan->scan.step_eV;
+  /* The first (coarse, far above threshold) step, missed by a fifth of the
+   * coarse spacing: claimed. Half-way to the next coarse step and a bit
+   * more above the first: not claimed, so added as its own done step. */
+  near = (MpDonePoint) { block->temperature_K, first->photon_energy_eV - 0.2 * plan->scan.fine_step_eV };
+  far = (MpDonePoint) { block->temperature_K, first->photon_energy_eV + 0.7 * spacing_eV };
+  g_array_append_val (done, near);
+  g_array_append_val (done, far);
+  opts.done = done;
+  after = mp_schedule_compute (plan, &opts, NULL);
+  g_assert_nonnull (after);
+  g_assert_cmpint (count_steps (after, TRUE), ==, 2);
+  g_assert_cmpint (count_steps (after, FALSE), ==, count_steps (before, FALSE) + 1);
+}
+
 int
 main (int argc, char **argv)
 {
@@ -776,6 +828,7 @@ main (int argc, char **argv)
   mp_core_init ();
   g_test_add_func ("/schedule/worked-example", test_worked_example);
   g_test_add_func ("/schedule/replan-options", test_replan_options);
+  g_test_add_func ("/schedule/done-points-off-grid", test_done_points_off_grid);
   g_test_add_func ("/schedule/out-of-range", test_out_of_range);
   g_test_add_func ("/schedule/range-switch", test_range_switch);
   g_test_add_func ("/schedule/drop-reasons", test_drop_reasons);

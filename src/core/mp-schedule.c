@@ -676,24 +676,103 @@ make_sweep_grid (const MpPlan *plan, double temperature_K)
   return grid;
 }
 
-static gboolean
-matches_done (const MpPlanner *p, const MpStep *s)
+/* How far a measured point may sit from a step and still count as that
+ * step measured: half the finest grid spacing in use, and never less than
+ * half a wavelength step (in energy, dE = E^2 / (hc) * dlambda). */
+static double
+done_tolerance_eV (const MpPlan *plan, double photon_energy_eV)
+{
+  const MpScan *sc = &plan->scan;
+  double spacing_eV = sc->fine_step_eV > 0.0 && sc->fine_halfwidth_eV > 0.0
+                      ? MIN (sc->fine_step_eV, sc->step_eV) : sc->step_eV;
+  double step_nm = plan->laser.wavelength_step_nm;
+  double rounding_eV = 0.5 * photon_energy_eV * photon_energy_eV / MP_HC_EV_NM
+                       * (step_nm > 0.0 ? step_nm : 1e-6);
+
+  return MAX (0.5 * spacing_eV, rounding_eV) * (1.0 + 1e-9);
+}
+
+static int
+find_nearest_open_step (const MpBlockWork *bw, double photon_energy_eV, double tol_eV)
+{
+  int best = -1;
+  double best_dist = tol_eV;
+
+  for (guint i = 0; i < bw->work->len; i++)
+    {
+      const MpWork *w = &g_array_index (bw->work, MpWork, i);
+      double dist = fabs (w->s.photon_energy_eV - photon_energy_eV);
+
+      if (!w->s.done && dist <= best_dist)
+        {
+          best = (int) i;
+          best_dist = dist;
+        }
+    }
+  return best;
+}
+
+/* Where a step at this photon energy belongs in the block's scan order. */
+static guint
+find_insert_position (const MpPlanner *p, const MpBlockWork *bw, double photon_energy_eV)
+{
+  gboolean descending = p->plan->scan.order != MP_SCAN_ASCENDING;
+  guint i;
+
+  for (i = 0; i < bw->work->len; i++)
+    {
+      double e = g_array_index (bw->work, MpWork, i).s.photon_energy_eV;
+
+      if (descending ? photon_energy_eV > e : photon_energy_eV < e)
+        break;
+    }
+  return i;
+}
+
+/* A measured point that no step claims (the grid moved with a refitted work
+ * function, or the point was taken off-plan) joins the block as a done step
+ * of its own, so that the re-planned schedule still shows it. */
+static void
+add_done_step (MpPlanner *p, MpBlockWork *bw, const MpDonePoint *d)
+{
+  MpWork w = { 0 };
+  double wavelength_nm;
+
+  round_to_wavelength_step (p->plan, d->photon_energy_eV, &wavelength_nm);
+  if (!(wavelength_nm > 0.0))
+    return;
+  w.s.kind = MP_STEP_KIND_MTE;
+  w.s.temperature_K = bw->tb->temperature_K;
+  w.s.wavelength_nm = wavelength_nm;
+  w.s.photon_energy_eV = mp_photon_energy_eV_from_wavelength_nm (wavelength_nm);
+  w.s.excess_energy_eV = w.s.photon_energy_eV - p->phi_eff_eV;
+  if (!predict_step (p, bw, &w))
+    return;
+  w.weight = 1.0;
+  w.s.done = TRUE;
+  g_array_insert_val (bw->work, find_insert_position (p, bw, w.s.photon_energy_eV), w);
+}
+
+static void
+mark_done_steps (MpPlanner *p, MpBlockWork *bw)
 {
   const GArray *done = p->opts->done;
-  double step_nm = p->plan->laser.wavelength_step_nm;
-  /* Half a wavelength step, in energy: dE = E^2 / (hc) * dlambda / 2. */
-  double tol_eV = 0.5 * s->photon_energy_eV * s->photon_energy_eV / MP_HC_EV_NM
-                  * (step_nm > 0.0 ? step_nm : 1e-6);
 
   for (guint i = 0; done != NULL && i < done->len; i++)
     {
       const MpDonePoint *d = &g_array_index (done, MpDonePoint, i);
+      int pos;
 
-      if (fabs (d->temperature_K - s->temperature_K) <= MP_DONE_TEMPERATURE_K
-          && fabs (d->photon_energy_eV - s->photon_energy_eV) <= tol_eV * (1.0 + 1e-9))
-        return TRUE;
+      if (fabs (d->temperature_K - bw->tb->temperature_K) > MP_DONE_TEMPERATURE_K)
+        continue;
+      pos = find_nearest_open_step (bw, d->photon_energy_eV,
+                                    done_tolerance_eV (p->plan, d->photon_energy_eV));
+      if (pos >= 0)
+        g_array_index (bw->work, MpWork, pos).s.done = TRUE;
+      else if (p->planned == NULL)
+        add_done_step (p, bw, d);
+      bw->started = TRUE;
     }
-  return FALSE;
 }
 
 /* What-if: the steps the nominal schedule kept for this block, at their
@@ -763,13 +842,7 @@ generate_steps (MpPlanner *p, GError **error)
         add_planned_steps (p, bw);
       else
         add_steps (p, bw, MP_STEP_KIND_MTE, grid, ranges);
-      for (guint i = 0; i < bw->work->len; i++)
-        {
-          MpWork *w = &g_array_index (bw->work, MpWork, i);
-
-          w->s.done = matches_done (p, &w->s);
-          bw->started |= w->s.done;
-        }
+      mark_done_steps (p, bw);
     }
   return TRUE;
 }
