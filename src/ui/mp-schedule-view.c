@@ -34,23 +34,24 @@ static const struct
 {
   const char *title;
   const char *tooltip;
+  int width;
 } columns[N_COLUMNS] = {
-  { N_("Block T (K)"), N_("Cathode temperature of the block") },
-  { N_("Step"), N_("Step number across the shift") },
-  { N_("Kind"), N_("MTE measurement or QE sweep point") },
-  { N_("λ (nm)"), N_("Laser wavelength") },
-  { N_("hν (eV)"), N_("Photon energy") },
-  { N_("Excess (meV)"), N_("Photon energy above the field-lowered work function") },
-  { N_("Transmission"), N_("Attenuator transmission") },
-  { N_("OD"), N_("Attenuator optical density") },
-  { N_("Rate (1/s)"), N_("Detected signal electrons per second") },
-  { N_("Dwell (s)"), N_("Time spent at this step") },
-  { N_("Target σ (meV)"), N_("Target standard error of the MTE") },
-  { N_("Reached σ (meV)"), N_("Standard error of the MTE reached with this dwell") },
-  { N_("MTE (meV)"), N_("Predicted mean transverse energy") },
-  { N_("Start"), N_("Start time from the shift start (h:mm)") },
-  { N_("Priority"), N_("1 = most important; larger numbers are left out first") },
-  { N_("Status"), N_("Whether the step reaches its target") },
+  { N_("Block T (K)"), N_("Cathode temperature of the block"), 98 },
+  { N_("Step"), N_("Step number across the shift"), 50 },
+  { N_("Kind"), N_("MTE measurement or QE sweep point"), 76 },
+  { N_("λ (nm)"), N_("Laser wavelength"), 68 },
+  { N_("hν (eV)"), N_("Photon energy"), 74 },
+  { N_("Excess (meV)"), N_("Photon energy above the field-lowered work function"), 112 },
+  { N_("Transmission"), N_("Attenuator transmission"), 100 },
+  { N_("OD"), N_("Attenuator optical density"), 52 },
+  { N_("Rate (1/s)"), N_("Detected signal electrons per second"), 86 },
+  { N_("Dwell (s)"), N_("Time spent at this step"), 76 },
+  { N_("Target σ (meV)"), N_("Target standard error of the MTE"), 122 },
+  { N_("Reached σ (meV)"), N_("Standard error of the MTE reached with this dwell"), 134 },
+  { N_("MTE (meV)"), N_("Predicted mean transverse energy"), 96 },
+  { N_("Start"), N_("Clock time of the start, or h:mm from the shift start"), 60 },
+  { N_("Priority"), N_("1 = most important; larger numbers are left out first"), 66 },
+  { N_("Status"), N_("Whether the step reaches its target"), 124 },
 };
 
 struct _MpScheduleView
@@ -66,6 +67,7 @@ struct _MpScheduleView
   gulong schedule_handler;
   int selected_step;
   gboolean updating;
+  GDateTime *shift_start;    /* NULL: start times from the shift start */
 };
 
 G_DEFINE_FINAL_TYPE (MpScheduleView, mp_schedule_view, GTK_TYPE_WIDGET)
@@ -188,7 +190,7 @@ bind_cb (GtkSignalListItemFactory *factory, GtkListItem *item, gpointer user_dat
   MpStepItem *step_item = gtk_list_item_get_item (item);
   const MpStep *step = mp_step_item_get_step (step_item);
   GtkWidget *child = gtk_list_item_get_child (item);
-  g_autofree char *text = format_value (step, column);
+  char *text = format_value (step, column);
   GtkWidget *label = child;
 
   if (column == COL_STATUS)
@@ -203,7 +205,20 @@ bind_cb (GtkSignalListItemFactory *factory, GtkListItem *item, gpointer user_dat
       gtk_widget_add_css_class (image, step->status == MP_STEP_OK ? "success"
                                 : step->status == MP_STEP_SHORT ? "warning" : "error");
     }
+  if (column == COL_START)
+    {
+      MpScheduleView *self = g_object_get_data (G_OBJECT (factory), "view");
+
+      if (self != NULL && self->shift_start != NULL)
+        {
+          g_autoptr (GDateTime) at = g_date_time_add_seconds (self->shift_start, step->start_h * 3600.0);
+
+          g_free (text);
+          text = g_date_time_format (at, "%H:%M");
+        }
+    }
   gtk_label_set_text (GTK_LABEL (label), text);
+  g_free (text);
   if (step->done)
     gtk_widget_add_css_class (child, "dim-label");
   else
@@ -246,10 +261,12 @@ add_columns (MpScheduleView *self)
 
       g_signal_connect (factory, "setup", G_CALLBACK (setup_cb), GINT_TO_POINTER (c));
       g_signal_connect (factory, "bind", G_CALLBACK (bind_cb), GINT_TO_POINTER (c));
+      g_object_set_data (G_OBJECT (factory), "view", self);
       column = gtk_column_view_column_new (_(columns[c].title), factory);
       sorter = GTK_SORTER (gtk_custom_sorter_new (compare_cb, GINT_TO_POINTER (c), NULL));
       gtk_column_view_column_set_sorter (column, sorter);
       gtk_column_view_column_set_resizable (column, TRUE);
+      gtk_column_view_column_set_fixed_width (column, columns[c].width);
       gtk_column_view_append_column (self->column_view, column);
       g_object_unref (sorter);
       g_object_unref (column);
@@ -334,6 +351,11 @@ fill_store (MpScheduleView *self)
                                ? mp_document_get_schedule (self->document) : NULL;
   g_autoptr (GPtrArray) items = g_ptr_array_new_with_free_func (g_object_unref);
   int keep = self->selected_step;
+  const MpPlan *plan = self->document != NULL ? mp_document_get_schedule_plan (self->document) : NULL;
+
+  g_clear_pointer (&self->shift_start, g_date_time_unref);
+  if (plan != NULL && plan->shift_start != NULL)
+    self->shift_start = g_date_time_new_from_iso8601 (plan->shift_start, NULL);
 
   if (schedule != NULL)
     for (guint b = 0; b < schedule->blocks->len; b++)
@@ -388,6 +410,7 @@ mp_schedule_view_dispose (GObject *object)
   mp_schedule_view_set_document (self, NULL);
   g_clear_pointer (&self->scrolled, gtk_widget_unparent);
   g_clear_object (&self->store);
+  g_clear_pointer (&self->shift_start, g_date_time_unref);
   G_OBJECT_CLASS (mp_schedule_view_parent_class)->dispose (object);
 }
 
