@@ -451,6 +451,8 @@ test_shortcuts_window (void)
 
   /* GtkApplication loads this resource for win.show-help-overlay. */
   g_assert_true (GTK_IS_SHORTCUTS_WINDOW (overlay));
+  /* Not presented: GTK 4.8's shortcuts window warns about a label's
+   * negative width under Xvfb, whatever the content. */
   gtk_window_destroy (GTK_WINDOW (overlay));
 }
 

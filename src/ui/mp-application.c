@@ -116,6 +116,15 @@ static const struct
   { "win.redo", { "<Control><Shift>z", "<Control>y", NULL } },
   { "win.close", { "<Control>w", NULL } },
   { "win.show-help-overlay", { "<Control>question", NULL } },
+  { "win.show-page('cathode')", { "<Alt>1", NULL } },
+  { "win.show-page('laser')", { "<Alt>2", NULL } },
+  { "win.show-page('detector')", { "<Alt>3", NULL } },
+  { "win.show-page('cryostat')", { "<Alt>4", NULL } },
+  { "win.show-page('scan')", { "<Alt>5", NULL } },
+  { "win.show-plot('qe')", { "<Control>1", NULL } },
+  { "win.show-plot('mte')", { "<Control>2", NULL } },
+  { "win.show-plot('timeline')", { "<Control>3", NULL } },
+  { "win.show-plot('all')", { "<Control>4", NULL } },
 };
 
 static void
