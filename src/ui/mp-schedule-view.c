@@ -47,7 +47,7 @@ static const struct
   { N_("Rate (1/s)"), N_("Detected signal electrons per second"), 86 },
   { N_("Dwell (s)"), N_("Time spent at this step"), 76 },
   { N_("Target σ (meV)"), N_("Target standard error of the MTE"), 122 },
-  { N_("Reached σ (meV)"), N_("Standard error of the MTE reached with this dwell"), 134 },
+  { N_("Reached σ (meV)"), N_("Standard error of the MTE reached with this dwell"), 144 },
   { N_("MTE (meV)"), N_("Predicted mean transverse energy"), 96 },
   { N_("Start"), N_("Clock time of the start, or h:mm from the shift start"), 60 },
   { N_("Priority"), N_("1 = most important; larger numbers are left out first"), 66 },
