@@ -3,6 +3,7 @@
 #include "config.h"
 
 #include <glib/gi18n.h>
+#include <math.h>
 
 #include "mp-document.h"
 #include "mp-error.h"
@@ -38,6 +39,15 @@ struct _MpDocument
   guint replan_generation;
   guint running_generation;
   gboolean running;
+
+  /* Re-plan state (not part of the plan nor of its history). */
+  MpMeasuredData *measured;
+  double elapsed_h;
+  double cryogen_left_L;
+  /* The options the landed schedule was computed with. */
+  GArray *schedule_done;
+  double schedule_elapsed_h;
+  double schedule_cryogen_left_L;
 };
 
 G_DEFINE_FINAL_TYPE (MpDocument, mp_document, G_TYPE_OBJECT)
@@ -50,6 +60,7 @@ enum
   PROP_CAN_REDO,
   PROP_BUSY,
   PROP_PATH,
+  PROP_HAS_MEASURED,
   N_PROPS
 };
 
@@ -64,12 +75,34 @@ enum
 
 static guint signals[N_SIGNALS];
 
+/* Everything the re-plan thread reads: copies owned by the task. */
+typedef struct
+{
+  MpPlan *plan;
+  GArray *done;          /* MpDonePoint, or NULL */
+  double elapsed_h;
+  double cryogen_left_L;
+} ReplanJob;
+
 typedef struct
 {
   MpSchedule *schedule;
   MpPlan *plan;
   char *error;
+  GArray *done;          /* the options used, handed back */
+  double elapsed_h;
+  double cryogen_left_L;
 } ReplanResult;
+
+static void
+replan_job_free (gpointer data)
+{
+  ReplanJob *job = data;
+
+  g_clear_pointer (&job->plan, mp_plan_free);
+  g_clear_pointer (&job->done, g_array_unref);
+  g_free (job);
+}
 
 static void
 snapshot_free (gpointer data)
@@ -87,6 +120,7 @@ replan_result_free (gpointer data)
 
   g_clear_pointer (&result->schedule, mp_schedule_free);
   g_clear_pointer (&result->plan, mp_plan_free);
+  g_clear_pointer (&result->done, g_array_unref);
   g_free (result->error);
   g_free (result);
 }
@@ -105,14 +139,20 @@ replan_thread (GTask        *task,
                gpointer      task_data,
                GCancellable *cancellable)
 {
-  const MpPlan *plan = task_data;
+  const ReplanJob *job = task_data;
   ReplanResult *result = g_new0 (ReplanResult, 1);
   g_autoptr (GError) error = NULL;
   MpScheduleOptions opts;
 
   mp_schedule_options_init (&opts);
-  result->schedule = mp_schedule_compute (plan, &opts, &error);
-  result->plan = mp_plan_copy (plan);
+  opts.elapsed_h = job->elapsed_h;
+  opts.cryogen_left_L = job->cryogen_left_L;
+  opts.done = job->done;
+  result->schedule = mp_schedule_compute (job->plan, &opts, &error);
+  result->plan = mp_plan_copy (job->plan);
+  result->done = job->done != NULL ? g_array_copy (job->done) : NULL;
+  result->elapsed_h = job->elapsed_h;
+  result->cryogen_left_L = job->cryogen_left_L;
   if (result->schedule == NULL)
     result->error = g_strdup (error != NULL ? error->message
                                             : _("The plan cannot be scheduled"));
@@ -148,6 +188,10 @@ replan_done_cb (GObject      *source,
   self->schedule = g_steal_pointer (&result->schedule);
   self->schedule_plan = g_steal_pointer (&result->plan);
   self->schedule_error = g_steal_pointer (&result->error);
+  g_clear_pointer (&self->schedule_done, g_array_unref);
+  self->schedule_done = g_steal_pointer (&result->done);
+  self->schedule_elapsed_h = result->elapsed_h;
+  self->schedule_cryogen_left_L = result->cryogen_left_L;
   replan_result_free (result);
   self->schedule_serial++;
 
@@ -160,6 +204,7 @@ replan_timeout_cb (gpointer user_data)
 {
   MpDocument *self = MP_DOCUMENT (user_data);
   g_autoptr (GTask) task = NULL;
+  ReplanJob *job;
   guint generation;
 
   self->replan_source = 0;
@@ -169,7 +214,14 @@ replan_timeout_cb (gpointer user_data)
 
   task = g_task_new (self, NULL, replan_done_cb, GUINT_TO_POINTER (generation));
   g_task_set_source_tag (task, replan_timeout_cb);
-  g_task_set_task_data (task, mp_plan_copy (self->plan), (GDestroyNotify) mp_plan_free);
+  job = g_new0 (ReplanJob, 1);
+  job->plan = mp_plan_copy (self->plan);
+  /* Matched against this plan's blocks, which a refit may have moved. */
+  if (self->measured != NULL)
+    job->done = mp_measured_to_done_points (self->measured, self->plan);
+  job->elapsed_h = self->elapsed_h;
+  job->cryogen_left_L = self->cryogen_left_L;
+  g_task_set_task_data (task, job, replan_job_free);
   g_task_run_in_thread (task, replan_thread);
   return G_SOURCE_REMOVE;
 }
@@ -188,6 +240,18 @@ mp_document_queue_replan (MpDocument *self, guint delay_ms)
   self->replan_source = g_timeout_add (delay_ms, replan_timeout_cb, self);
   if (!was_busy)
     g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_BUSY]);
+}
+
+/* Returns whether there was anything to forget. */
+static gboolean
+forget_measured (MpDocument *self)
+{
+  gboolean had = self->measured != NULL;
+
+  g_clear_pointer (&self->measured, mp_measured_data_free);
+  self->elapsed_h = 0.0;
+  self->cryogen_left_L = NAN;
+  return had;
 }
 
 static void
@@ -215,6 +279,8 @@ mp_document_finalize (GObject *object)
   g_clear_pointer (&self->schedule_plan, mp_plan_free);
   g_clear_pointer (&self->schedule_error, g_free);
   g_clear_pointer (&self->merge_key, g_free);
+  g_clear_pointer (&self->measured, mp_measured_data_free);
+  g_clear_pointer (&self->schedule_done, g_array_unref);
 
   G_OBJECT_CLASS (mp_document_parent_class)->finalize (object);
 }
@@ -244,6 +310,9 @@ mp_document_get_property (GObject    *object,
     case PROP_PATH:
       g_value_set_string (value, mp_document_get_path (self));
       break;
+    case PROP_HAS_MEASURED:
+      g_value_set_boolean (value, mp_document_get_has_measured (self));
+      break;
     default:
       G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
     }
@@ -272,6 +341,10 @@ mp_document_class_init (MpDocumentClass *klass)
   properties[PROP_PATH] =
     g_param_spec_string ("path", NULL, NULL, NULL,
                          G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  /* Measured data mark done steps in the schedule (set_measured). */
+  properties[PROP_HAS_MEASURED] =
+    g_param_spec_boolean ("has-measured", NULL, NULL, FALSE,
+                          G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
   g_object_class_install_properties (object_class, N_PROPS, properties);
 
   /* The plan was replaced (edit, undo, redo, load). */
@@ -293,6 +366,8 @@ mp_document_init (MpDocument *self)
   self->next_serial = 1;
   self->serial = self->saved_serial = 0;
   self->pristine = TRUE;
+  self->cryogen_left_L = NAN;
+  self->schedule_cryogen_left_L = NAN;
   mp_document_queue_replan (self, 0);
 }
 
@@ -365,6 +440,9 @@ mp_document_reset (MpDocument *self, MpPlan *plan, const char *path)
   g_ptr_array_set_size (self->undo, 0);
   g_ptr_array_set_size (self->redo, 0);
   g_clear_pointer (&self->merge_key, g_free);
+  /* Measured points belong to the shift of the plan they were taken for. */
+  if (forget_measured (self))
+    g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_MEASURED]);
   if (path != NULL && g_strcmp0 (plan->path, path) != 0)
     {
       g_free (plan->path);
@@ -549,4 +627,107 @@ mp_document_get_schedule_serial (MpDocument *self)
 {
   g_return_val_if_fail (MP_IS_DOCUMENT (self), 0);
   return self->schedule_serial;
+}
+
+static MpMeasuredData *
+copy_measured (const MpMeasuredData *data)
+{
+  MpMeasuredData *copy = g_new0 (MpMeasuredData, 1);
+
+  copy->name = g_strdup (data->name);
+  copy->points = g_array_copy (data->points);
+  return copy;
+}
+
+gboolean
+mp_document_set_measured (MpDocument           *self,
+                          const MpMeasuredData *data,
+                          double                elapsed_h,
+                          double                cryogen_left_L,
+                          GError              **error)
+{
+  gboolean had;
+
+  g_return_val_if_fail (MP_IS_DOCUMENT (self), FALSE);
+  g_return_val_if_fail (data != NULL && data->points != NULL, FALSE);
+  g_return_val_if_fail (error == NULL || *error == NULL, FALSE);
+
+  if (isnan (elapsed_h))
+    {
+      elapsed_h = mp_measured_max_elapsed_h (data);
+      if (isnan (elapsed_h))
+        elapsed_h = 0.0;
+    }
+  if (!isfinite (elapsed_h) || elapsed_h < 0.0)
+    {
+      g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                   _("elapsed beam time: expected a number >= 0 h, found %g"), elapsed_h);
+      return FALSE;
+    }
+  if (!isnan (cryogen_left_L) && !(isfinite (cryogen_left_L) && cryogen_left_L >= 0.0))
+    {
+      g_set_error (error, MP_ERROR, MP_ERROR_INVALID,
+                   _("cryogen left: expected a number >= 0 L, found %g"), cryogen_left_L);
+      return FALSE;
+    }
+
+  had = forget_measured (self);
+  self->measured = copy_measured (data);
+  self->elapsed_h = elapsed_h;
+  self->cryogen_left_L = cryogen_left_L;
+  if (!had)
+    g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_MEASURED]);
+  mp_document_queue_replan (self, 0);
+  return TRUE;
+}
+
+void
+mp_document_clear_measured (MpDocument *self)
+{
+  g_return_if_fail (MP_IS_DOCUMENT (self));
+
+  if (!forget_measured (self))
+    return;
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_MEASURED]);
+  mp_document_queue_replan (self, 0);
+}
+
+gboolean
+mp_document_get_has_measured (MpDocument *self)
+{
+  g_return_val_if_fail (MP_IS_DOCUMENT (self), FALSE);
+  return self->measured != NULL;
+}
+
+const MpMeasuredData *
+mp_document_get_measured (MpDocument *self)
+{
+  g_return_val_if_fail (MP_IS_DOCUMENT (self), NULL);
+  return self->measured;
+}
+
+double
+mp_document_get_elapsed_h (MpDocument *self)
+{
+  g_return_val_if_fail (MP_IS_DOCUMENT (self), 0.0);
+  return self->elapsed_h;
+}
+
+double
+mp_document_get_cryogen_left_L (MpDocument *self)
+{
+  g_return_val_if_fail (MP_IS_DOCUMENT (self), NAN);
+  return self->cryogen_left_L;
+}
+
+void
+mp_document_get_schedule_options (MpDocument *self, MpScheduleOptions *opts)
+{
+  g_return_if_fail (MP_IS_DOCUMENT (self));
+  g_return_if_fail (opts != NULL);
+
+  mp_schedule_options_init (opts);
+  opts->elapsed_h = self->schedule_elapsed_h;
+  opts->cryogen_left_L = self->schedule_cryogen_left_L;
+  opts->done = self->schedule_done;
 }

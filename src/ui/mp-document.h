@@ -9,6 +9,7 @@
 
 #include <gio/gio.h>
 
+#include "mp-measured.h"
 #include "mp-plan.h"
 #include "mp-schedule.h"
 
@@ -56,6 +57,34 @@ gboolean mp_document_get_busy (MpDocument *self);
 guint mp_document_get_schedule_serial (MpDocument *self);
 /* Re-plan after delay_ms (0: at the next idle). */
 void mp_document_queue_replan (MpDocument *self, guint delay_ms);
+
+/* Re-plan from measured data (issue 6): the measured points mark steps
+ * done, the plan continues from elapsed_h of beam time spent and with
+ * cryogen_left_L litres in the dewar. This is not a plan edit: the plan,
+ * its undo history and its modified state are unchanged; the state stays
+ * across plan edits, undo and redo, and is forgotten when another plan is
+ * loaded (mp_document_reset). data is copied; elapsed_h NAN means the
+ * largest elapsed_h in the data (0 when none has one); cryogen_left_L NAN
+ * means the plan's cryogen budget. Refuses (MP_ERROR_INVALID, naming the
+ * value and the accepted range) an elapsed time or cryogen level that is
+ * negative or not finite, leaving the state as it was. Notifies
+ * "has-measured" and re-plans. */
+gboolean mp_document_set_measured (MpDocument *self,
+                                   const MpMeasuredData *data,
+                                   double elapsed_h,
+                                   double cryogen_left_L,
+                                   GError **error);
+void mp_document_clear_measured (MpDocument *self);
+gboolean mp_document_get_has_measured (MpDocument *self);
+/* The measured data set, or NULL. */
+const MpMeasuredData *mp_document_get_measured (MpDocument *self);
+/* The re-plan state as set (0 and NAN without measured data). */
+double mp_document_get_elapsed_h (MpDocument *self);
+double mp_document_get_cryogen_left_L (MpDocument *self);
+/* The options the current schedule was computed with, for recomputing it
+ * (printing): opts->done points into the document and stays valid until
+ * the next "schedule-changed". */
+void mp_document_get_schedule_options (MpDocument *self, MpScheduleOptions *opts);
 
 /* Autosave: writes the serialised plan to path (atomically). */
 gboolean mp_document_write_copy (MpDocument *self, const char *path, GError **error);

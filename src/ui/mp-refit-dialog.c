@@ -17,6 +17,7 @@ struct _MpRefitDialog
   GFile *file;
   GCancellable *cancellable;
   MpFitResult *result;
+  MpMeasuredData *measured;    /* the points of the last fit */
   char *error;
   gboolean busy;
 
@@ -29,6 +30,10 @@ struct _MpRefitDialog
   GtkLabel *error_label;
   GtkLabel *summary_label;
   GtkDrawingArea *plot_area;
+  GtkEntry *elapsed_entry;
+  GtkLabel *elapsed_error;
+  GtkEntry *cryogen_entry;
+  GtkLabel *cryogen_error;
 };
 
 G_DEFINE_FINAL_TYPE (MpRefitDialog, mp_refit_dialog, GTK_TYPE_WINDOW)
@@ -60,11 +65,27 @@ fit_job_free (FitJob *job)
   g_free (job);
 }
 
+/* What the thread hands back: the fit and the points it was made from. */
+typedef struct
+{
+  MpFitResult *fit;
+  MpMeasuredData *measured;
+} FitOutcome;
+
+static void
+fit_outcome_free (FitOutcome *outcome)
+{
+  g_clear_pointer (&outcome->fit, mp_fit_result_free);
+  g_clear_pointer (&outcome->measured, mp_measured_data_free);
+  g_free (outcome);
+}
+
 static void
 fit_thread (GTask *task, gpointer source, gpointer data, GCancellable *cancellable)
 {
   FitJob *job = data;
   g_autoptr (MpMeasuredData) measured = NULL;
+  FitOutcome *outcome;
   MpFitResult *fit;
   GError *error = NULL;
 
@@ -76,9 +97,14 @@ fit_thread (GTask *task, gpointer source, gpointer data, GCancellable *cancellab
     }
   fit = mp_fit_measured (job->plan, measured, &job->options, cancellable, &error);
   if (fit == NULL)
-    g_task_return_error (task, error);
-  else
-    g_task_return_pointer (task, fit, (GDestroyNotify) mp_fit_result_free);
+    {
+      g_task_return_error (task, error);
+      return;
+    }
+  outcome = g_new0 (FitOutcome, 1);
+  outcome->fit = fit;
+  outcome->measured = g_steal_pointer (&measured);
+  g_task_return_pointer (task, outcome, (GDestroyNotify) fit_outcome_free);
 }
 
 static void
@@ -143,6 +169,79 @@ show_error (MpRefitDialog *self, const char *message)
   gtk_widget_set_visible (GTK_WIDGET (self->error_label), message != NULL);
 }
 
+/* ---- Re-plan fields ---------------------------------------------------- */
+
+/* Empty text: *value stays (the default). A decimal comma is accepted. */
+static gboolean
+parse_field (GtkEntry *entry, GtkLabel *error_label, const char *what,
+             const char *unit, double *value)
+{
+  g_autofree char *text = g_strstrip (g_strdup (gtk_editable_get_text (GTK_EDITABLE (entry))));
+  g_autofree char *message = NULL;
+  char *end = NULL;
+  double v;
+
+  g_strdelimit (text, ",", '.');
+  if (*text != '\0')
+    {
+      v = g_ascii_strtod (text, &end);
+      if (end == NULL || *end != '\0' || !isfinite (v) || v < 0.0)
+        /* TRANSLATORS: "elapsed beam time: enter a number >= 0 h, or leave it empty" */
+        message = g_strdup_printf (_("%s: enter a number >= 0 %s, or leave it empty"), what, unit);
+      else
+        *value = v;
+    }
+  gtk_label_set_text (error_label, message != NULL ? message : "");
+  gtk_widget_set_visible (GTK_WIDGET (error_label), message != NULL);
+  if (message != NULL)
+    gtk_widget_add_css_class (GTK_WIDGET (entry), "error");
+  else
+    gtk_widget_remove_css_class (GTK_WIDGET (entry), "error");
+  return message == NULL;
+}
+
+/* The elapsed beam time and the cryogen left typed, NAN for the defaults
+ * (the data's largest elapsed_h; the plan's budget). */
+static gboolean
+read_replan_fields (MpRefitDialog *self, double *elapsed_h, double *cryogen_left_L)
+{
+  gboolean ok;
+
+  *elapsed_h = NAN;
+  *cryogen_left_L = NAN;
+  ok = parse_field (self->elapsed_entry, self->elapsed_error, _("elapsed beam time"), "h", elapsed_h);
+  ok &= parse_field (self->cryogen_entry, self->cryogen_error, _("cryogen left"), "L", cryogen_left_L);
+  return ok;
+}
+
+static void
+update_accept (MpRefitDialog *self)
+{
+  double elapsed_h, cryogen_left_L;
+  gboolean fields_ok = read_replan_fields (self, &elapsed_h, &cryogen_left_L);
+
+  gtk_widget_set_sensitive (GTK_WIDGET (self->accept_button), self->result != NULL && fields_ok);
+}
+
+static void
+update_placeholders (MpRefitDialog *self)
+{
+  double elapsed_h = self->measured != NULL ? mp_measured_max_elapsed_h (self->measured) : NAN;
+  g_autofree char *text = NULL;
+
+  if (isfinite (elapsed_h))
+    text = g_strdup_printf (_("%.2f (from the data)"), elapsed_h);
+  else
+    text = g_strdup (_("0 (the data have no elapsed_h)"));
+  gtk_entry_set_placeholder_text (self->elapsed_entry, text);
+}
+
+static void
+replan_field_changed_cb (MpRefitDialog *self)
+{
+  update_accept (self);
+}
+
 static void
 show_result (MpRefitDialog *self)
 {
@@ -151,7 +250,8 @@ show_result (MpRefitDialog *self)
   if (self->result != NULL)
     summary = format_summary (self->result, mp_document_get_plan (self->document));
   gtk_label_set_markup (self->summary_label, summary != NULL ? summary : "");
-  gtk_widget_set_sensitive (GTK_WIDGET (self->accept_button), self->result != NULL);
+  update_placeholders (self);
+  update_accept (self);
   gtk_widget_queue_draw (GTK_WIDGET (self->plot_area));
 }
 
@@ -160,13 +260,19 @@ fit_done_cb (GObject *source, GAsyncResult *res, gpointer user_data)
 {
   g_autoptr (MpRefitDialog) self = user_data;
   g_autoptr (GError) error = NULL;
-  MpFitResult *fit = g_task_propagate_pointer (G_TASK (res), &error);
+  FitOutcome *outcome = g_task_propagate_pointer (G_TASK (res), &error);
 
   if (g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED))
     return;  /* a newer fit or the closing dialog took over */
   set_busy (self, FALSE);
   g_clear_pointer (&self->result, mp_fit_result_free);
-  self->result = fit;
+  g_clear_pointer (&self->measured, mp_measured_data_free);
+  if (outcome != NULL)
+    {
+      self->result = g_steal_pointer (&outcome->fit);
+      self->measured = g_steal_pointer (&outcome->measured);
+      fit_outcome_free (outcome);
+    }
   show_error (self, error != NULL ? error->message : NULL);
   show_result (self);
 }
@@ -317,16 +423,55 @@ mp_refit_dialog_get_error (MpRefitDialog *self)
 gboolean
 mp_refit_dialog_accept (MpRefitDialog *self)
 {
+  g_autoptr (GError) error = NULL;
+  double elapsed_h, cryogen_left_L;
   MpPlan *plan;
 
   g_return_val_if_fail (MP_IS_REFIT_DIALOG (self), FALSE);
 
-  if (self->result == NULL || self->busy)
+  if (self->result == NULL || self->measured == NULL || self->busy)
+    return FALSE;
+  if (!read_replan_fields (self, &elapsed_h, &cryogen_left_L))
     return FALSE;
   plan = mp_document_dup_plan (self->document);
   mp_fit_apply_to_plan (self->result, plan);
   mp_document_commit (self->document, plan, NULL);
+  /* Not a plan edit: the re-plan marks the measured steps done. The
+   * values were checked above, so this cannot refuse them. */
+  if (!mp_document_set_measured (self->document, self->measured, elapsed_h,
+                                 cryogen_left_L, &error))
+    g_warning ("%s", error->message);
   return TRUE;
+}
+
+GtkEditable *
+mp_refit_dialog_get_entry (MpRefitDialog *self, const char *key)
+{
+  g_return_val_if_fail (MP_IS_REFIT_DIALOG (self), NULL);
+  g_return_val_if_fail (key != NULL, NULL);
+
+  if (g_str_equal (key, "elapsed_h"))
+    return GTK_EDITABLE (self->elapsed_entry);
+  if (g_str_equal (key, "cryogen_left_L"))
+    return GTK_EDITABLE (self->cryogen_entry);
+  return NULL;
+}
+
+const char *
+mp_refit_dialog_get_field_error (MpRefitDialog *self, const char *key)
+{
+  GtkLabel *label = NULL;
+
+  g_return_val_if_fail (MP_IS_REFIT_DIALOG (self), NULL);
+  g_return_val_if_fail (key != NULL, NULL);
+
+  if (g_str_equal (key, "elapsed_h"))
+    label = self->elapsed_error;
+  else if (g_str_equal (key, "cryogen_left_L"))
+    label = self->cryogen_error;
+  if (label == NULL || !gtk_widget_get_visible (GTK_WIDGET (label)))
+    return NULL;
+  return gtk_label_get_text (label);
 }
 
 /* ---- GObject ---------------------------------------------------------------- */
@@ -341,6 +486,7 @@ mp_refit_dialog_dispose (GObject *object)
   g_clear_object (&self->document);
   g_clear_object (&self->file);
   g_clear_pointer (&self->result, mp_fit_result_free);
+  g_clear_pointer (&self->measured, mp_measured_data_free);
   g_clear_pointer (&self->error, g_free);
   gtk_widget_dispose_template (GTK_WIDGET (self), MP_TYPE_REFIT_DIALOG);
   G_OBJECT_CLASS (mp_refit_dialog_parent_class)->dispose (object);
@@ -408,9 +554,14 @@ mp_refit_dialog_class_init (MpRefitDialogClass *klass)
   gtk_widget_class_bind_template_child (widget_class, MpRefitDialog, error_label);
   gtk_widget_class_bind_template_child (widget_class, MpRefitDialog, summary_label);
   gtk_widget_class_bind_template_child (widget_class, MpRefitDialog, plot_area);
+  gtk_widget_class_bind_template_child (widget_class, MpRefitDialog, elapsed_entry);
+  gtk_widget_class_bind_template_child (widget_class, MpRefitDialog, elapsed_error);
+  gtk_widget_class_bind_template_child (widget_class, MpRefitDialog, cryogen_entry);
+  gtk_widget_class_bind_template_child (widget_class, MpRefitDialog, cryogen_error);
   gtk_widget_class_bind_template_callback (widget_class, import_clicked_cb);
   gtk_widget_class_bind_template_callback (widget_class, accept_clicked_cb);
   gtk_widget_class_bind_template_callback (widget_class, option_toggled_cb);
+  gtk_widget_class_bind_template_callback (widget_class, replan_field_changed_cb);
 }
 
 static void
@@ -418,6 +569,7 @@ mp_refit_dialog_init (MpRefitDialog *self)
 {
   gtk_widget_init_template (GTK_WIDGET (self));
   gtk_drawing_area_set_draw_func (self->plot_area, draw_plot_cb, self, NULL);
+  update_placeholders (self);
 }
 
 MpRefitDialog *

@@ -27,8 +27,16 @@ gboolean mp_refit_dialog_get_busy (MpRefitDialog *self);
 const MpFitResult *mp_refit_dialog_get_result (MpRefitDialog *self);
 const char *mp_refit_dialog_get_error (MpRefitDialog *self);
 /* Sets the document's work function, its uncertainty and reference QE to
- * the fitted values (one undo step); FALSE when there is no fit. */
+ * the fitted values (one undo step), then hands the measured points to the
+ * document (mp_document_set_measured) so the re-plan marks them done and
+ * continues from the elapsed beam time and cryogen left typed (empty: the
+ * data's largest elapsed_h; the plan's budget). FALSE when there is no fit
+ * or a field is refused (its message is shown next to it). */
 gboolean mp_refit_dialog_accept (MpRefitDialog *self);
+/* The re-plan fields: "elapsed_h" and "cryogen_left_L" (NULL otherwise),
+ * and the message shown next to one, or NULL when it is accepted. */
+GtkEditable *mp_refit_dialog_get_entry (MpRefitDialog *self, const char *key);
+const char *mp_refit_dialog_get_field_error (MpRefitDialog *self, const char *key);
 
 /* Enables the window's "win.import-measured" action to open this dialog. */
 void mp_refit_dialog_install (MpWindow *window);

@@ -101,7 +101,7 @@ column_value (const MpStep *step, Column column)
     case COL_MTE: return step->mte_meV;
     case COL_START: return step->start_h;
     case COL_PRIORITY: return step->priority;
-    case COL_STATUS: return step->status;
+    case COL_STATUS: return step->done ? -1.0 : (double) step->status;
     case N_COLUMNS:
     default: return 0;
     }
@@ -137,6 +137,8 @@ format_value (const MpStep *step, Column column)
       }
     case COL_PRIORITY: return g_strdup_printf ("%d", step->priority);
     case COL_STATUS:
+      if (step->done)
+        return g_strdup (_("Done"));
       switch (step->status)
         {
         case MP_STEP_OK: return g_strdup (_("On target"));
@@ -151,9 +153,11 @@ format_value (const MpStep *step, Column column)
 }
 
 static const char *
-status_icon (MpStepStatus status)
+status_icon (const MpStep *step)
 {
-  switch (status)
+  if (step->done)
+    return "checkbox-checked-symbolic";
+  switch (step->status)
     {
     case MP_STEP_OK: return "object-select-symbolic";
     case MP_STEP_SHORT: return "dialog-warning-symbolic";
@@ -198,12 +202,14 @@ bind_cb (GtkSignalListItemFactory *factory, GtkListItem *item, gpointer user_dat
       GtkWidget *image = gtk_widget_get_first_child (child);
 
       label = gtk_widget_get_next_sibling (image);
-      gtk_image_set_from_icon_name (GTK_IMAGE (image), status_icon (step->status));
+      gtk_image_set_from_icon_name (GTK_IMAGE (image), status_icon (step));
       gtk_widget_remove_css_class (image, "warning");
       gtk_widget_remove_css_class (image, "error");
       gtk_widget_remove_css_class (image, "success");
-      gtk_widget_add_css_class (image, step->status == MP_STEP_OK ? "success"
-                                : step->status == MP_STEP_SHORT ? "warning" : "error");
+      /* A done step's prediction no longer matters: no colour. */
+      if (!step->done)
+        gtk_widget_add_css_class (image, step->status == MP_STEP_OK ? "success"
+                                  : step->status == MP_STEP_SHORT ? "warning" : "error");
     }
   if (column == COL_START)
     {
@@ -219,10 +225,19 @@ bind_cb (GtkSignalListItemFactory *factory, GtkListItem *item, gpointer user_dat
     }
   gtk_label_set_text (GTK_LABEL (label), text);
   g_free (text);
+  /* Done steps greyed, their values struck through as on the run sheet;
+   * the status says "Done". */
   if (step->done)
-    gtk_widget_add_css_class (child, "dim-label");
+    {
+      gtk_widget_add_css_class (child, "dim-label");
+      if (column != COL_STATUS)
+        gtk_widget_add_css_class (child, "step-done");
+    }
   else
-    gtk_widget_remove_css_class (child, "dim-label");
+    {
+      gtk_widget_remove_css_class (child, "dim-label");
+      gtk_widget_remove_css_class (child, "step-done");
+    }
 }
 
 static int

@@ -103,5 +103,6 @@ mp_step_describe (const MpStep *step)
                           step->qe, step->signal_rate_per_s, step->transmission,
                           step->mte_meV, step->target_sigma_meV, step->reached_sigma_meV,
                           step->dwell_s, step->start_h, step->end_h,
-                          status_label (step->status));
+                          step->done ? _("done (already measured)")
+                                     : status_label (step->status));
 }

@@ -2,11 +2,14 @@
 /* mp-window.c: the planning window. */
 #include "config.h"
 
+#include <math.h>
 #include <unistd.h>
 #include <glib/gi18n.h>
 #include <glib/gstdio.h>
 
 #include "mp-application.h"
+#include "mp-fit.h"
+#include "mp-measured.h"
 #include "mp-plan-editor.h"
 #include "mp-plot-view.h"
 #include "mp-rehearse-dialog.h"
@@ -152,6 +155,40 @@ format_sensitivity (const MpSchedule *schedule, const MpPlan *plan)
                           lo->n_left_out, hi->n_left_out);
 }
 
+static int
+count_done (const MpSchedule *schedule)
+{
+  int n = 0;
+
+  for (guint b = 0; b < schedule->blocks->len; b++)
+    {
+      const MpBlock *block = g_ptr_array_index (schedule->blocks, b);
+
+      for (guint i = 0; i < block->steps->len; i++)
+        n += g_array_index (block->steps, MpStep, i).done;
+    }
+  return n;
+}
+
+/* "Re-plan after 2.75 h elapsed: 17 done · " when measured data are set. */
+static void
+append_replan (MpWindow *self, GString *text, const MpSchedule *schedule)
+{
+  MpScheduleOptions opts;
+  int n_done = count_done (schedule);
+
+  mp_document_get_schedule_options (self->document, &opts);
+  if (opts.done == NULL && opts.elapsed_h == 0.0)
+    return;
+  g_string_append_printf (text, ngettext ("Re-plan after %.2f h elapsed: %d step done",
+                                          "Re-plan after %.2f h elapsed: %d steps done",
+                                          n_done),
+                          opts.elapsed_h, n_done);
+  if (!isnan (opts.cryogen_left_L))
+    g_string_append_printf (text, _(", %.1f L in the dewar"), opts.cryogen_left_L);
+  g_string_append (text, " · ");
+}
+
 static void
 update_status (MpWindow *self)
 {
@@ -179,11 +216,13 @@ update_status (MpWindow *self)
 
   if (!schedule->feasible)
     g_string_append (text, _("Does not fit: "));
+  append_replan (self, text, schedule);
   g_string_append_printf (text, _("Beam time %.1f of %.1f h · Cryogen %.1f of %.1f L · "
                                   "%d steps: %d short, %d unreachable, %d left out"),
                           schedule->beam_time_h, schedule->beam_time_available_h,
                           schedule->cryogen_L, schedule->cryogen_available_L,
-                          mp_schedule_count_steps (schedule), n_short, n_unreachable, n_left_out);
+                          mp_schedule_count_steps (schedule) - count_done (schedule),
+                          n_short, n_unreachable, n_left_out);
   if (schedule->stretch_factor > 1.0)
     g_string_append_printf (text, _("  ·  targets loosened ×%.2f"), schedule->stretch_factor);
   gtk_label_set_text (self->status_label, text->str);
@@ -254,6 +293,9 @@ update_actions (MpWindow *self)
       g_simple_action_set_enabled (G_SIMPLE_ACTION (action),
                                    mp_document_get_schedule (self->document) != NULL);
     }
+  action = g_action_map_lookup_action (G_ACTION_MAP (self), "clear-measured");
+  g_simple_action_set_enabled (G_SIMPLE_ACTION (action),
+                               mp_document_get_has_measured (self->document));
 }
 
 static void
@@ -794,13 +836,14 @@ print_done_cb (GtkPrintOperation *op, GtkPrintOperationResult result, MpWindow *
     }
 }
 
-/* Recomputes the schedule of the plan shown (the print job owns a copy). */
+/* Recomputes the schedule shown, with the same re-plan options (done
+ * steps, elapsed time, cryogen left); the print job owns the copy. */
 static MpSchedule *
-copy_schedule (const MpPlan *plan)
+copy_schedule (MpWindow *self, const MpPlan *plan)
 {
   MpScheduleOptions opts;
 
-  mp_schedule_options_init (&opts);
+  mp_document_get_schedule_options (self->document, &opts);
   return mp_schedule_compute (plan, &opts, NULL);
 }
 
@@ -823,7 +866,7 @@ mp_window_print (MpWindow *self, const char *export_path, GError **error)
     }
   job = g_new0 (PrintJob, 1);
   job->plan = mp_plan_copy (plan);
-  job->schedule = copy_schedule (job->plan);
+  job->schedule = copy_schedule (self, job->plan);
   if (job->schedule == NULL)
     {
       print_job_free (job);
@@ -897,6 +940,12 @@ show_plot_action (GSimpleAction *action, GVariant *param, gpointer user_data)
 }
 
 static void
+clear_measured_action (GSimpleAction *action, GVariant *param, gpointer user_data)
+{
+  mp_document_clear_measured (MP_WINDOW (user_data)->document);
+}
+
+static void
 unavailable_action (GSimpleAction *action, GVariant *param, gpointer user_data)
 {
 }
@@ -914,6 +963,7 @@ static const GActionEntry win_entries[] = {
   { "close", close_action },
   { "show-page", show_page_action, "s" },
   { "show-plot", show_plot_action, "s" },
+  { "clear-measured", clear_measured_action },
   /* Filled in by the refit and rehearsal dialogs (mp_window_enable_action). */
   { "import-measured", unavailable_action },
   { "rehearse", unavailable_action },
@@ -1166,6 +1216,31 @@ select_screenshot_step_cb (MpDocument *document, MpWindow *self)
     mp_schedule_view_set_selected_step (self->schedule_view, step);
 }
 
+static void
+apply_screenshot_measured (MpWindow *self, const char *path)
+{
+  g_autoptr (GError) error = NULL;
+  g_autoptr (MpMeasuredData) data = mp_measured_load_from_file (path, &error);
+  g_autoptr (MpFitResult) fit = NULL;
+  MpPlan *plan;
+
+  if (data == NULL)
+    {
+      show_error (self, "%s", error->message);
+      return;
+    }
+  fit = mp_fit_measured (mp_document_get_plan (self->document), data, NULL, NULL, &error);
+  if (fit != NULL)
+    {
+      plan = mp_document_dup_plan (self->document);
+      mp_fit_apply_to_plan (fit, plan);
+      mp_document_commit (self->document, plan, NULL);
+    }
+  g_clear_error (&error);
+  if (!mp_document_set_measured (self->document, data, NAN, NAN, &error))
+    show_error (self, "%s", error->message);
+}
+
 static gboolean
 screenshot_cb (gpointer user_data)
 {
@@ -1185,6 +1260,13 @@ screenshot_cb (gpointer user_data)
   if ((mp_document_get_busy (self->document) || mp_document_get_schedule_serial (self->document) == 0)
       && tries++ < 40)
     return G_SOURCE_CONTINUE;
+  if (g_object_get_data (G_OBJECT (self), "screenshot-measured") != NULL)
+    {
+      /* As the refit's Accept does: fitted work function, then re-plan. */
+      apply_screenshot_measured (self, g_object_get_data (G_OBJECT (self), "screenshot-measured"));
+      g_object_set_data (G_OBJECT (self), "screenshot-measured", NULL);
+      return G_SOURCE_CONTINUE;
+    }
   if (g_object_get_data (G_OBJECT (self), "screenshot-type") != NULL)
     {
       /* KEY=TEXT: typed into a field, to show how a value is refused. */
@@ -1248,6 +1330,8 @@ setup_screenshot (MpWindow *self)
     g_object_set_data (G_OBJECT (self), "screenshot-step", GINT_TO_POINTER (atoi (step)));
   g_object_set_data_full (G_OBJECT (self), "screenshot-type",
                           g_strdup (g_getenv ("MTEPLAN_SCREENSHOT_TYPE")), g_free);
+  g_object_set_data_full (G_OBJECT (self), "screenshot-measured",
+                          g_strdup (g_getenv ("MTEPLAN_SCREENSHOT_MEASURED")), g_free);
   g_timeout_add (1500, screenshot_cb, self);
 }
 
@@ -1396,6 +1480,7 @@ mp_window_init (MpWindow *self)
   g_signal_connect (self->document, "notify::can-undo", G_CALLBACK (document_state_cb), self);
   g_signal_connect (self->document, "notify::can-redo", G_CALLBACK (document_state_cb), self);
   g_signal_connect (self->document, "notify::path", G_CALLBACK (document_state_cb), self);
+  g_signal_connect (self->document, "notify::has-measured", G_CALLBACK (document_state_cb), self);
   g_signal_connect (self->document, "notify::busy", G_CALLBACK (busy_cb), self);
   g_signal_connect (self->document, "plan-changed", G_CALLBACK (plan_changed_cb), self);
   g_signal_connect (self->document, "schedule-changed", G_CALLBACK (schedule_changed_cb), self);
