@@ -185,11 +185,18 @@ test_set_and_clear (void)
   g_assert_cmpuint (opts.done->len, ==, done->len);
 
   /* The status line says so. */
-  g_assert_nonnull (strstr (mp_window_get_status_text (window), "3.81 h elapsed"));
+  g_assert_nonnull (strstr (mp_window_get_status_text (window), "Re-plan from 3.81 h"));
   {
     g_autofree char *count = g_strdup_printf ("%d steps done", n_done);
 
     g_assert_nonnull (strstr (mp_window_get_status_text (window), count));
+  }
+  /* No dewar level given: the status line says what was assumed. */
+  {
+    g_autofree char *assumed = g_strdup_printf ("dewar %.1f L assumed",
+                                                mp_document_get_plan (doc)->cryostat.budget_L);
+
+    g_assert_nonnull (strstr (mp_window_get_status_text (window), assumed));
   }
 
   /* Not a plan edit. */
@@ -218,7 +225,7 @@ test_set_and_clear (void)
   schedule = mp_document_get_schedule (doc);
   g_assert_cmpfloat (fabs (schedule->cryogen_available_L
                            - (20.0 - mp_document_get_plan (doc)->cryostat.reserve_L)), <, 1e-9);
-  g_assert_nonnull (strstr (mp_window_get_status_text (window), "20.0 L in the dewar"));
+  g_assert_nonnull (strstr (mp_window_get_status_text (window), "dewar 20.0 L ·"));
 
   /* Forget Measured Data: back to the plain plan. */
   serial = mp_document_get_schedule_serial (doc);

@@ -170,23 +170,31 @@ count_done (const MpSchedule *schedule)
   return n;
 }
 
-/* "Re-plan after 2.75 h elapsed: 17 done · " when measured data are set. */
-static void
+/* "Re-plan from 3.81 h: 22 steps done, dewar 20.0 L · "
+ * for a schedule made from measured data; FALSE (nothing added) for the
+ * plain plan. */
+static gboolean
 append_replan (MpWindow *self, GString *text, const MpSchedule *schedule)
 {
+  const MpPlan *plan = mp_document_get_schedule_plan (self->document);
   MpScheduleOptions opts;
   int n_done = count_done (schedule);
 
   mp_document_get_schedule_options (self->document, &opts);
   if (opts.done == NULL && opts.elapsed_h == 0.0)
-    return;
-  g_string_append_printf (text, ngettext ("Re-plan after %.2f h elapsed: %d step done",
-                                          "Re-plan after %.2f h elapsed: %d steps done",
+    return FALSE;
+  /* TRANSLATORS: the plan continues from the elapsed beam time */
+  g_string_append_printf (text, ngettext ("Re-plan from %.2f h: %d step done",
+                                          "Re-plan from %.2f h: %d steps done",
                                           n_done),
                           opts.elapsed_h, n_done);
   if (!isnan (opts.cryogen_left_L))
-    g_string_append_printf (text, _(", %.1f L in the dewar"), opts.cryogen_left_L);
+    g_string_append_printf (text, _(", dewar %.1f L"), opts.cryogen_left_L);
+  else if (plan != NULL)
+    /* The scheduler then starts from the full budget: say so. */
+    g_string_append_printf (text, _(", dewar %.1f L assumed"), plan->cryostat.budget_L);
   g_string_append (text, " · ");
+  return TRUE;
 }
 
 static void
@@ -216,13 +224,20 @@ update_status (MpWindow *self)
 
   if (!schedule->feasible)
     g_string_append (text, _("Does not fit: "));
-  append_replan (self, text, schedule);
-  g_string_append_printf (text, _("Beam time %.1f of %.1f h · Cryogen %.1f of %.1f L · "
-                                  "%d steps: %d short, %d unreachable, %d left out"),
-                          schedule->beam_time_h, schedule->beam_time_available_h,
-                          schedule->cryogen_L, schedule->cryogen_available_L,
-                          mp_schedule_count_steps (schedule) - count_done (schedule),
-                          n_short, n_unreachable, n_left_out);
+  if (append_replan (self, text, schedule))
+    g_string_append_printf (text, _("Beam time %.1f of the %.1f h left · Cryogen %.1f of %.1f L · "
+                                    "%d steps to go: %d short, %d unreachable, %d left out"),
+                            schedule->beam_time_h, schedule->beam_time_available_h,
+                            schedule->cryogen_L, schedule->cryogen_available_L,
+                            mp_schedule_count_steps (schedule) - count_done (schedule),
+                            n_short, n_unreachable, n_left_out);
+  else
+    g_string_append_printf (text, _("Beam time %.1f of %.1f h · Cryogen %.1f of %.1f L · "
+                                    "%d steps: %d short, %d unreachable, %d left out"),
+                            schedule->beam_time_h, schedule->beam_time_available_h,
+                            schedule->cryogen_L, schedule->cryogen_available_L,
+                            mp_schedule_count_steps (schedule), n_short, n_unreachable,
+                            n_left_out);
   if (schedule->stretch_factor > 1.0)
     g_string_append_printf (text, _("  ·  targets loosened ×%.2f"), schedule->stretch_factor);
   gtk_label_set_text (self->status_label, text->str);
