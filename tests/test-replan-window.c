@@ -309,6 +309,7 @@ test_refit_accept (void)
   /* Undo takes back the work function only; the points stay done. */
   serial = mp_document_get_schedule_serial (doc);
   mp_document_undo (doc);
+  g_free (after);
   after = mp_plan_checksum (mp_document_get_plan (doc));
   g_assert_cmpstr (before, ==, after);
   g_assert_true (mp_document_get_has_measured (doc));
