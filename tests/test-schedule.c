@@ -821,6 +821,51 @@ test_done_points_off_grid (void)
   g_assert_cmpint (count_steps (after, FALSE), ==, count_steps (before, FALSE) + 1);
 }
 
+/* A re-plan goes on from the block under way (the latest measured point),
+ * then the later blocks, then the earlier blocks with open steps, nearest
+ * first; a warmer block reached by warming up pays no cool-down. */
+static void
+test_replan_block_order (void)
+{
+  g_autoptr (MpPlan) plan = mp_plan_new_default ();
+  g_autoptr (MpSchedule) schedule = NULL;
+  g_autoptr (GArray) done = g_array_new (FALSE, FALSE, sizeof (MpDonePoint));
+  MpScheduleOptions opts;
+  MpDonePoint warm, cold;
+  const MpTemperatureBlock *tb;
+  const MpBlock *revisited;
+  guint n = plan->temperatures->len;
+
+  g_assert_cmpuint (n, >=, 3);
+  tb = &g_array_index (plan->temperatures, MpTemperatureBlock, 0);
+  warm = (MpDonePoint) { tb->temperature_K, 4.80, 0.2 };
+  tb = &g_array_index (plan->temperatures, MpTemperatureBlock, n - 1);
+  cold = (MpDonePoint) { tb->temperature_K, 4.80, 2.5 };
+  g_array_append_val (done, warm);
+  g_array_append_val (done, cold);
+  mp_schedule_options_init (&opts);
+  opts.no_sensitivity = TRUE;
+  opts.done = done;
+  opts.elapsed_h = 2.5;
+  schedule = mp_schedule_compute (plan, &opts, NULL);
+  g_assert_nonnull (schedule);
+  g_assert_cmpuint (schedule->blocks->len, ==, n);
+  for (guint b = 0; b < n; b++)
+    {
+      const MpBlock *block = g_ptr_array_index (schedule->blocks, b);
+
+      /* Last block first, then backwards through the plan. */
+      g_assert_cmpint (block->plan_block_index, ==, (int) (n - 1 - b));
+    }
+  revisited = g_ptr_array_index (schedule->blocks, 1);
+  tb = &g_array_index (plan->temperatures, MpTemperatureBlock, n - 2);
+  g_assert_cmpfloat (tb->cooldown_L, >, 0.0);
+  g_assert_cmpfloat_with_epsilon (revisited->cryogen_L,
+                                  tb->hold_L_per_h * (revisited->end_h - revisited->start_h),
+                                  1e-9);
+  g_assert_cmpuint (schedule->warnings->len, >=, 2);
+}
+
 int
 main (int argc, char **argv)
 {
@@ -829,6 +874,7 @@ main (int argc, char **argv)
   g_test_add_func ("/schedule/worked-example", test_worked_example);
   g_test_add_func ("/schedule/replan-options", test_replan_options);
   g_test_add_func ("/schedule/done-points-off-grid", test_done_points_off_grid);
+  g_test_add_func ("/schedule/replan-block-order", test_replan_block_order);
   g_test_add_func ("/schedule/out-of-range", test_out_of_range);
   g_test_add_func ("/schedule/range-switch", test_range_switch);
   g_test_add_func ("/schedule/drop-reasons", test_drop_reasons);

@@ -473,6 +473,7 @@ mp_measured_to_done_points (const MpMeasuredData *data, const MpPlan *plan)
 
       d.temperature_K = mp_measured_match_block_temperature (plan, p->temperature_K);
       d.photon_energy_eV = p->photon_energy_eV;
+      d.elapsed_h = p->elapsed_h;
       g_array_append_val (done, d);
     }
   return done;

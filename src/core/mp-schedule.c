@@ -106,9 +106,17 @@ typedef struct
   GArray *work;             /* MpWork in scan order: QE sweep, then MTE */
   guint index;              /* in plan->temperatures */
   gboolean started;         /* holds done steps: settle and cool-down paid */
+  gboolean warming;         /* revisited warmer than the block under way: no cool-down */
   gboolean dropped;         /* whole block left out */
   double band_eV;           /* half-width of the near-threshold band */
 } MpBlockWork;
+
+/* Cool-down liquid a block costs; none when it is reached by warming up. */
+static double
+block_cooldown_L (const MpBlockWork *bw)
+{
+  return bw->warming ? 0.0 : bw->tb->cooldown_L;
+}
 
 typedef struct
 {
@@ -812,6 +820,99 @@ add_planned_steps (MpPlanner *p, MpBlockWork *bw)
     }
 }
 
+/* The block under way in a re-plan: the one holding the latest measured
+ * point (by elapsed time where the data carry it, else the last block in
+ * plan order that holds a measured point); -1 when nothing was measured. */
+static int
+find_block_under_way (const MpPlanner *p)
+{
+  const GArray *done = p->opts->done;
+  int current = -1;
+  double latest_h = -INFINITY;
+
+  for (guint b = 0; b < p->blocks->len; b++)
+    {
+      const MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+
+      for (guint i = 0; done != NULL && i < done->len; i++)
+        {
+          const MpDonePoint *d = &g_array_index (done, MpDonePoint, i);
+          double t_h = isnan (d->elapsed_h) ? -1.0 : d->elapsed_h;
+
+          if (fabs (d->temperature_K - bw->tb->temperature_K) > MP_DONE_TEMPERATURE_K)
+            continue;
+          if (t_h >= latest_h)
+            {
+              latest_h = t_h;
+              current = (int) b;
+            }
+        }
+    }
+  return current;
+}
+
+static gboolean
+has_open_steps (const MpBlockWork *bw)
+{
+  for (guint i = 0; i < bw->work->len; i++)
+    if (!g_array_index (bw->work, MpWork, i).s.done)
+      return TRUE;
+  return FALSE;
+}
+
+/* A re-plan goes on from the block under way, not back to the start: the
+ * blocks before it that are finished stay first (they are history), then
+ * the block under way, the blocks after it in plan order, and last the
+ * earlier blocks that still have open steps, nearest first. Going back to
+ * one of those means settling again; a colder one also pays its cool-down
+ * again, a warmer one (reached by warming up) does not. */
+static void
+order_blocks_for_replan (MpPlanner *p)
+{
+  int current = find_block_under_way (p);
+  g_autoptr (GPtrArray) ordered = NULL;
+  g_autoptr (GPtrArray) revisited = NULL;
+
+  if (current < 0)
+    return;
+  ordered = g_ptr_array_new ();
+  revisited = g_ptr_array_new ();
+  for (int b = 0; b < current; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+
+      if (!has_open_steps (bw))
+        g_ptr_array_add (ordered, bw);
+    }
+  /* Revisit the nearest first (in a cool-down series: warm up block by
+   * block). */
+  for (int b = current - 1; b >= 0; b--)
+    {
+      MpBlockWork *bw = g_ptr_array_index (p->blocks, b);
+      const MpBlockWork *now = g_ptr_array_index (p->blocks, current);
+
+      if (has_open_steps (bw))
+        {
+          bw->started = FALSE;
+          bw->warming = bw->tb->temperature_K > now->tb->temperature_K;
+          g_ptr_array_add (revisited, bw);
+        }
+    }
+  for (guint b = current; b < p->blocks->len; b++)
+    g_ptr_array_add (ordered, g_ptr_array_index (p->blocks, b));
+  for (guint b = 0; b < revisited->len; b++)
+    {
+      MpBlockWork *bw = g_ptr_array_index (revisited, b);
+
+      g_ptr_array_add (ordered, bw);
+      if (p->planned == NULL)
+        add_warning (p, N_("The %g K block still has open steps: they come after the block under way and pay its settle time again"),
+                     bw->tb->temperature_K);
+    }
+  for (guint b = 0; b < ordered->len; b++)
+    p->blocks->pdata[b] = ordered->pdata[b];
+}
+
 static gboolean
 generate_steps (MpPlanner *p, GError **error)
 {
@@ -844,6 +945,7 @@ generate_steps (MpPlanner *p, GError **error)
         add_steps (p, bw, MP_STEP_KIND_MTE, grid, ranges);
       mark_done_steps (p, bw);
     }
+  order_blocks_for_replan (p);
   return TRUE;
 }
 
@@ -960,7 +1062,7 @@ measure_totals (const MpPlanner *p, double *hours, double *litres)
       if (!bw->started)
         {
           block_s += bw->tb->settle_min * 60.0;
-          cool_L = bw->tb->cooldown_L;
+          cool_L = block_cooldown_L (bw);
         }
       total_h += block_s / 3600.0;
       total_L += cool_L + bw->tb->hold_L_per_h * block_s / 3600.0;
@@ -1012,7 +1114,7 @@ rank_steps (MpPlanner *p)
       if (n_pending == 0)
         continue;
       fixed_h = bw->started ? 0.0 : bw->tb->settle_min / 60.0;
-      fixed_L = bw->started ? 0.0 : bw->tb->cooldown_L + bw->tb->hold_L_per_h * fixed_h;
+      fixed_L = bw->started ? 0.0 : block_cooldown_L (bw) + bw->tb->hold_L_per_h * fixed_h;
       for (guint i = 0; i < bw->work->len; i++)
         {
           MpWork *w = &g_array_index (bw->work, MpWork, i);
@@ -1060,7 +1162,7 @@ block_fixed_cost (const MpBlockWork *bw, double *hours, double *litres)
   double settle_h = bw->started ? 0.0 : bw->tb->settle_min / 60.0;
 
   *hours = settle_h;
-  *litres = bw->started ? 0.0 : bw->tb->cooldown_L + bw->tb->hold_L_per_h * settle_h;
+  *litres = bw->started ? 0.0 : block_cooldown_L (bw) + bw->tb->hold_L_per_h * settle_h;
 }
 
 typedef struct
@@ -1267,7 +1369,7 @@ drop_state_remove (MpDropState *st, int t)
       st->total_h -= st->block_s[b] / 3600.0;
       st->total_L -= bw->tb->hold_L_per_h * st->block_s[b] / 3600.0;
       if (!bw->started)
-        st->total_L -= bw->tb->cooldown_L;
+        st->total_L -= block_cooldown_L (bw);
       st->block_s[b] = 0.0;
     }
 }
@@ -1762,7 +1864,7 @@ lay_out_timeline (const MpPlanner *p, MpSchedule *schedule)
       if (any_pending && !bw->started)
         {
           block->settle_h = bw->tb->settle_min / 60.0;
-          level_L -= bw->tb->cooldown_L + hold * block->settle_h;
+          level_L -= block_cooldown_L (bw) + hold * block->settle_h;
           clock_h += block->settle_h;
         }
       for (guint i = 0; i < bw->work->len; i++)

@@ -115,6 +115,7 @@ typedef struct
 {
   double temperature_K;
   double photon_energy_eV;
+  double elapsed_h;            /* when it was measured; NAN if unknown */
 } MpDonePoint;
 
 typedef struct
