@@ -382,6 +382,35 @@ step_is_marked (const MpStep *s)
 
 /* Header */
 
+/* A re-plan says how much of the shift is behind it, so that the counts
+ * above are not read as work still to do. */
+static void
+add_replan_line (MpSheet *sheet, const MpSchedule *sc)
+{
+  int n_done = 0, n_all = 0;
+  g_autofree char *line = NULL;
+
+  for (guint b = 0; b < sc->blocks->len; b++)
+    {
+      const MpBlock *block = g_ptr_array_index (sc->blocks, b);
+
+      for (guint i = 0; i < block->steps->len; i++)
+        {
+          n_done += g_array_index (block->steps, MpStep, i).done;
+          n_all++;
+        }
+    }
+  if (n_done == 0)
+    return;
+  line = g_strdup_printf (ngettext ("<b>Re-plan</b>  %d of these steps is already measured "
+                                     "(struck through below); %d still to do.",
+                                     "<b>Re-plan</b>  %d of these steps are already measured "
+                                     "(struck through below); %d still to do.",
+                                     n_done),
+                          n_done, n_all - n_done);
+  add_para (sheet, line, SIZE_BODY, 4);
+}
+
 static void
 add_header (MpSheet *sheet)
 {
@@ -499,6 +528,7 @@ add_header (MpSheet *sheet)
                                sc->left_out ? (int) sc->left_out->len : 0);
   add_para (sheet, verdict, SIZE_BODY, 4)->boxed =
     !sc->feasible || (sc->left_out && sc->left_out->len > 0) || sc->stretch_factor > 1.0001;
+  add_replan_line (sheet, sc);
 }
 
 static const char *
