@@ -18,7 +18,7 @@
  * to double precision with two terms; GSL is used above it. */
 #define MP_FD_SERIES_BELOW (-30.0)
 
-#define MP_HERMITE_NODES 48
+#define MP_HERMITE_NODES MP_LINE_NODES
 
 typedef struct
 {
@@ -167,15 +167,34 @@ mp_emission_monochromatic (double excess_eV, double temperature_K, MpEmission *o
   out->eps2_eV2 = 2.0 * kT * kT * exp (mp_log_fermi_dirac (3, x) - l1);
 }
 
+int
+mp_line_quadrature (double excess_eV,
+                    double bandwidth_eV,
+                    double *node_excess_eV,
+                    double *log_weight)
+{
+  g_return_val_if_fail (node_excess_eV != NULL && log_weight != NULL, 0);
+
+  mp_core_init ();
+  /* <f> = 1/sqrt(pi) sum w_i f(dE + sqrt(2) sigma t_i). */
+  for (int i = 0; i < MP_HERMITE_NODES; i++)
+    {
+      node_excess_eV[i] = excess_eV + M_SQRT2 * bandwidth_eV * hermite_rule.node[i];
+      log_weight[i] = hermite_rule.log_weight[i];
+    }
+  return MP_HERMITE_NODES;
+}
+
 void
 mp_emission_averaged (double excess_eV,
                       double temperature_K,
                       double bandwidth_eV,
                       MpEmission *out)
 {
-  MpEmission at[MP_HERMITE_NODES];
-  double log_w[MP_HERMITE_NODES];
+  MpEmission at[MP_LINE_NODES];
+  double node_eV[MP_LINE_NODES], log_w[MP_LINE_NODES];
   double top = -INFINITY, sum = 0.0, sum_mte = 0.0, sum_eps2 = 0.0;
+  int n;
 
   g_return_if_fail (out != NULL);
 
@@ -184,18 +203,15 @@ mp_emission_averaged (double excess_eV,
       mp_emission_monochromatic (excess_eV, temperature_K, out);
       return;
     }
-  mp_core_init ();
-  /* <f> = 1/sqrt(pi) sum w_i f(dE + sqrt(2) sigma t_i), in log space so
-   * that yields of 1e-300 and below still average. */
-  for (int i = 0; i < MP_HERMITE_NODES; i++)
+  /* In log space, so that yields of 1e-300 and below still average. */
+  n = mp_line_quadrature (excess_eV, bandwidth_eV, node_eV, log_w);
+  for (int i = 0; i < n; i++)
     {
-      double e = excess_eV + M_SQRT2 * bandwidth_eV * hermite_rule.node[i];
-
-      mp_emission_monochromatic (e, temperature_K, &at[i]);
-      log_w[i] = hermite_rule.log_weight[i] + at[i].log_yield;
+      mp_emission_monochromatic (node_eV[i], temperature_K, &at[i]);
+      log_w[i] += at[i].log_yield;
       top = MAX (top, log_w[i]);
     }
-  for (int i = 0; i < MP_HERMITE_NODES; i++)
+  for (int i = 0; i < n; i++)
     {
       double w = exp (log_w[i] - top);
 

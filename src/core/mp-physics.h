@@ -45,6 +45,16 @@ void mp_emission_averaged (double excess_eV,
                            double bandwidth_eV,
                            MpEmission *out);
 
+/* The quadrature over the Gaussian laser line that mp_emission_averaged
+ * uses: the excess energy of each node and the natural log of its weight
+ * (the weights sum to 1). Fills at most MP_LINE_NODES of each; returns the
+ * count. Samplers draw from the same nodes so that they match the model. */
+#define MP_LINE_NODES 48
+int mp_line_quadrature (double excess_eV,
+                        double bandwidth_eV,
+                        double *node_excess_eV,
+                        double *log_weight);
+
 double mp_yield_eV2 (const MpEmission *em);
 
 /* QE(E, T) = QE_ref * <Y>(E, T) / <Y>(E_ref, T_ref). */

@@ -72,7 +72,6 @@
 #include <glib/gi18n.h>
 #include <math.h>
 #include <string.h>
-#include <gsl/gsl_integration.h>
 
 #define MP_REHEARSE_CHUNK 64
 /* Nodes lighter than this share of the line's yield are left out. */
@@ -96,35 +95,6 @@ mp_rehearse_options_init (MpRehearseOptions *opts)
 }
 
 /* ---- Sampler ------------------------------------------------------------ */
-
-typedef struct
-{
-  double node[MP_SAMPLER_MAX_NODES];
-  double log_weight[MP_SAMPLER_MAX_NODES];
-} HermiteRule;
-
-static HermiteRule hermite;
-
-/* The same rule as mp_emission_averaged (weight exp(-t^2), 48 nodes). */
-static gpointer
-build_hermite_rule (gpointer data)
-{
-  gsl_integration_fixed_workspace *w;
-  const double *nodes, *weights;
-
-  mp_core_init ();
-  w = gsl_integration_fixed_alloc (gsl_integration_fixed_hermite,
-                                   MP_SAMPLER_MAX_NODES, 0.0, 1.0, 0.0, 0.0);
-  nodes = gsl_integration_fixed_nodes (w);
-  weights = gsl_integration_fixed_weights (w);
-  for (int i = 0; i < MP_SAMPLER_MAX_NODES; i++)
-    {
-      hermite.node[i] = nodes[i];
-      hermite.log_weight[i] = log (weights[i]) - 0.5 * log (M_PI);
-    }
-  gsl_integration_fixed_free (w);
-  return NULL;
-}
 
 static void
 init_node (MpSamplerNode *node, double excess_eV, double kT_eV)
@@ -190,10 +160,9 @@ mp_energy_sampler_init (MpEnergySampler *sampler,
                         double temperature_K,
                         double bandwidth_eV)
 {
-  static GOnce once = G_ONCE_INIT;
-  double kT, log_w[MP_SAMPLER_MAX_NODES], excess[MP_SAMPLER_MAX_NODES];
-  double p[MP_SAMPLER_MAX_NODES], top = -INFINITY, sum = 0.0;
-  int n = 0;
+  double kT, log_w[MP_LINE_NODES], excess[MP_LINE_NODES];
+  double p[MP_LINE_NODES], top = -INFINITY, sum = 0.0;
+  int n = 0, n_line;
 
   g_return_if_fail (sampler != NULL);
   g_return_if_fail (temperature_K > 0.0);
@@ -209,19 +178,19 @@ mp_energy_sampler_init (MpEnergySampler *sampler,
       return;
     }
 
-  g_once (&once, build_hermite_rule, NULL);
-  for (int i = 0; i < MP_SAMPLER_MAX_NODES; i++)
+  /* The model's own line quadrature (mp_emission_averaged). */
+  n_line = mp_line_quadrature (excess_eV, bandwidth_eV, excess, log_w);
+  for (int i = 0; i < n_line; i++)
     {
       MpEmission em;
 
-      excess[i] = excess_eV + M_SQRT2 * bandwidth_eV * hermite.node[i];
       mp_emission_monochromatic (excess[i], temperature_K, &em);
-      log_w[i] = hermite.log_weight[i] + em.log_yield;
+      log_w[i] += em.log_yield;
       top = MAX (top, log_w[i]);
     }
-  for (int i = 0; i < MP_SAMPLER_MAX_NODES; i++)
+  for (int i = 0; i < n_line; i++)
     sum += exp (log_w[i] - top);
-  for (int i = 0; i < MP_SAMPLER_MAX_NODES; i++)
+  for (int i = 0; i < n_line; i++)
     {
       double share = exp (log_w[i] - top) / sum;
 

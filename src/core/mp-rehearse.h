@@ -17,6 +17,7 @@
 
 #include <gio/gio.h>
 
+#include "mp-physics.h"
 #include "mp-plan.h"
 #include "mp-rng.h"
 #include "mp-schedule.h"
@@ -49,7 +50,7 @@ void mp_rehearse_options_init (MpRehearseOptions *opts);
  * yield-weighted Gauss-Hermite nodes the model averages over, so the
  * sampled moments are the model's averaged moments. */
 
-#define MP_SAMPLER_MAX_NODES 48
+#define MP_SAMPLER_MAX_NODES MP_LINE_NODES
 
 typedef struct
 {
