@@ -3,6 +3,7 @@
  * from measured QE and MTE points, with the plan's field and laser. */
 #include "config.h"
 
+#include "mp-json.h"
 #include "mp-cli.h"
 #include "mp-error.h"
 #include "mp-fit.h"
@@ -21,17 +22,6 @@ typedef struct
   gboolean qe_only;
 } FitArgs;
 
-/* Non-finite numbers are written as null (JSON has no NaN). */
-static void
-add_number (JsonBuilder *b, const char *name, double value)
-{
-  json_builder_set_member_name (b, name);
-  if (isfinite (value))
-    json_builder_add_double_value (b, value);
-  else
-    json_builder_add_null_value (b);
-}
-
 static void
 add_blocks_json (JsonBuilder *b, const MpFitResult *fit)
 {
@@ -44,10 +34,10 @@ add_blocks_json (JsonBuilder *b, const MpFitResult *fit)
       if (!blk->fitted)
         continue;
       json_builder_begin_object (b);
-      add_number (b, "temperature_K", blk->temperature_K);
-      add_number (b, "effective_temperature_K", blk->effective_temperature_K);
-      add_number (b, "effective_temperature_sigma_K", blk->effective_temperature_sigma_K);
-      add_number (b, "thermal_ratio", blk->thermal_ratio);
+      mp_json_add_number (b, "temperature_K", blk->temperature_K);
+      mp_json_add_number (b, "effective_temperature_K", blk->effective_temperature_K);
+      mp_json_add_number (b, "effective_temperature_sigma_K", blk->effective_temperature_sigma_K);
+      mp_json_add_number (b, "thermal_ratio", blk->thermal_ratio);
       json_builder_set_member_name (b, "n_qe");
       json_builder_add_int_value (b, blk->n_qe);
       json_builder_set_member_name (b, "n_mte");
@@ -71,14 +61,14 @@ add_residuals_json (JsonBuilder *b, const MpFitResult *fit)
       json_builder_add_int_value (b, r->line);
       json_builder_set_member_name (b, "kind");
       json_builder_add_string_value (b, mp_fit_residual_kind_to_string (r->kind));
-      add_number (b, "temperature_K", r->temperature_K);
-      add_number (b, "photon_energy_eV", r->photon_energy_eV);
-      add_number (b, "excess_energy_eV", r->excess_energy_eV);
-      add_number (b, "measured", r->measured);
-      add_number (b, "model", r->model);
-      add_number (b, "residual", r->residual);
-      add_number (b, "sigma", r->sigma);
-      add_number (b, "normalised_residual", r->normalised_residual);
+      mp_json_add_number (b, "temperature_K", r->temperature_K);
+      mp_json_add_number (b, "photon_energy_eV", r->photon_energy_eV);
+      mp_json_add_number (b, "excess_energy_eV", r->excess_energy_eV);
+      mp_json_add_number (b, "measured", r->measured);
+      mp_json_add_number (b, "model", r->model);
+      mp_json_add_number (b, "residual", r->residual);
+      mp_json_add_number (b, "sigma", r->sigma);
+      mp_json_add_number (b, "normalised_residual", r->normalised_residual);
       json_builder_end_object (b);
     }
   json_builder_end_array (b);
@@ -90,18 +80,18 @@ build_fit_json (const MpFitResult *fit)
   g_autoptr (JsonBuilder) b = json_builder_new ();
 
   json_builder_begin_object (b);
-  add_number (b, "work_function_eV", fit->work_function_eV);
-  add_number (b, "work_function_sigma_eV", fit->work_function_sigma_eV);
-  add_number (b, "effective_work_function_eV", fit->effective_work_function_eV);
-  add_number (b, "field_MV_per_m", fit->field_MV_per_m);
-  add_number (b, "bandwidth_meV", fit->bandwidth_meV);
-  add_number (b, "qe_scale", fit->qe_scale);
-  add_number (b, "log_qe_scale", fit->log_qe_scale);
-  add_number (b, "log_qe_scale_sigma", fit->log_qe_scale_sigma);
-  add_number (b, "work_function_scale_correlation", fit->phi_scale_correlation);
-  add_number (b, "qe_at_reference", fit->qe_at_reference);
-  add_number (b, "chi_square", fit->chi_square);
-  add_number (b, "reduced_chi_square", fit->reduced_chi_square);
+  mp_json_add_number (b, "work_function_eV", fit->work_function_eV);
+  mp_json_add_number (b, "work_function_sigma_eV", fit->work_function_sigma_eV);
+  mp_json_add_number (b, "effective_work_function_eV", fit->effective_work_function_eV);
+  mp_json_add_number (b, "field_MV_per_m", fit->field_MV_per_m);
+  mp_json_add_number (b, "bandwidth_meV", fit->bandwidth_meV);
+  mp_json_add_number (b, "qe_scale", fit->qe_scale);
+  mp_json_add_number (b, "log_qe_scale", fit->log_qe_scale);
+  mp_json_add_number (b, "log_qe_scale_sigma", fit->log_qe_scale_sigma);
+  mp_json_add_number (b, "work_function_scale_correlation", fit->phi_scale_correlation);
+  mp_json_add_number (b, "qe_at_reference", fit->qe_at_reference);
+  mp_json_add_number (b, "chi_square", fit->chi_square);
+  mp_json_add_number (b, "reduced_chi_square", fit->reduced_chi_square);
   json_builder_set_member_name (b, "dof");
   json_builder_add_int_value (b, fit->dof);
   json_builder_set_member_name (b, "n_parameters");
@@ -112,11 +102,11 @@ build_fit_json (const MpFitResult *fit)
   json_builder_add_int_value (b, fit->iterations);
   json_builder_set_member_name (b, "qe_sigma_source");
   json_builder_add_string_value (b, fit->qe_sigma_from_data ? "data" : "scatter");
-  add_number (b, "qe_scatter", fit->qe_scatter);
+  mp_json_add_number (b, "qe_scatter", fit->qe_scatter);
   json_builder_set_member_name (b, "mte_sigma_source");
   json_builder_add_string_value (b, fit->mte_sigma_from_data ? "data"
                                     : isfinite (fit->mte_scatter_meV) ? "scatter" : "none");
-  add_number (b, "mte_scatter_meV", fit->mte_scatter_meV);
+  mp_json_add_number (b, "mte_scatter_meV", fit->mte_scatter_meV);
   add_blocks_json (b, fit);
   add_residuals_json (b, fit);
   json_builder_end_object (b);

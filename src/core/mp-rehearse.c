@@ -64,6 +64,7 @@
  * any number of threads. */
 #include "config.h"
 
+#include "mp-json.h"
 #include "mp-rehearse.h"
 #include "mp-error.h"
 #include "mp-physics.h"
@@ -1109,40 +1110,23 @@ mp_rehearsal_free (MpRehearsal *rehearsal)
 /* ---- JSON --------------------------------------------------------------- */
 
 static void
-add_number (JsonBuilder *b, const char *name, double value)
-{
-  json_builder_set_member_name (b, name);
-  if (isfinite (value))
-    json_builder_add_double_value (b, value);
-  else
-    json_builder_add_null_value (b);
-}
-
-static void
-add_int (JsonBuilder *b, const char *name, gint64 value)
-{
-  json_builder_set_member_name (b, name);
-  json_builder_add_int_value (b, value);
-}
-
-static void
 add_step_json (JsonBuilder *b, const MpRehearseStep *s)
 {
   json_builder_begin_object (b);
-  add_int (b, "index", s->index);
-  add_number (b, "temperature_K", s->temperature_K);
-  add_number (b, "photon_energy_eV", s->photon_energy_eV);
-  add_number (b, "excess_energy_eV", s->excess_energy_eV);
-  add_number (b, "dwell_s", s->dwell_s);
-  add_number (b, "mean_signal_electrons", s->mean_signal_electrons);
-  add_number (b, "mte_model_meV", s->mte_model_meV);
-  add_number (b, "target_sigma_meV", s->target_sigma_meV);
-  add_number (b, "predicted_sigma_meV", s->predicted_sigma_meV);
-  add_number (b, "mte_bias_meV", s->mte_bias_meV);
-  add_number (b, "mte_bias_standard_error_meV", s->mte_bias_standard_error_meV);
-  add_number (b, "mte_spread_meV", s->mte_spread_meV);
-  add_number (b, "fraction_within_target", s->fraction_within_target);
-  add_int (b, "undefined_trials", s->undefined_trials);
+  mp_json_add_int (b, "index", s->index);
+  mp_json_add_number (b, "temperature_K", s->temperature_K);
+  mp_json_add_number (b, "photon_energy_eV", s->photon_energy_eV);
+  mp_json_add_number (b, "excess_energy_eV", s->excess_energy_eV);
+  mp_json_add_number (b, "dwell_s", s->dwell_s);
+  mp_json_add_number (b, "mean_signal_electrons", s->mean_signal_electrons);
+  mp_json_add_number (b, "mte_model_meV", s->mte_model_meV);
+  mp_json_add_number (b, "target_sigma_meV", s->target_sigma_meV);
+  mp_json_add_number (b, "predicted_sigma_meV", s->predicted_sigma_meV);
+  mp_json_add_number (b, "mte_bias_meV", s->mte_bias_meV);
+  mp_json_add_number (b, "mte_bias_standard_error_meV", s->mte_bias_standard_error_meV);
+  mp_json_add_number (b, "mte_spread_meV", s->mte_spread_meV);
+  mp_json_add_number (b, "fraction_within_target", s->fraction_within_target);
+  mp_json_add_int (b, "undefined_trials", s->undefined_trials);
   json_builder_end_object (b);
 }
 
@@ -1157,7 +1141,7 @@ add_percentiles (JsonBuilder *b, const char *name, const double *values)
 
       g_snprintf (key, sizeof key, "p%d",
                   (int) lround (100.0 * mp_rehearse_percentile_levels[p]));
-      add_number (b, key, values[p]);
+      mp_json_add_number (b, key, values[p]);
     }
   json_builder_end_object (b);
 }
@@ -1167,15 +1151,15 @@ add_shift_json (JsonBuilder *b, const MpRehearsal *r)
 {
   json_builder_set_member_name (b, "shift");
   json_builder_begin_object (b);
-  add_number (b, "work_function_eV", r->work_function_eV);
-  add_number (b, "work_function_sigma_eV", r->work_function_sigma_eV);
-  add_number (b, "planned_beam_time_h", r->planned_beam_time_h);
-  add_number (b, "beam_time_available_h", r->beam_time_available_h);
-  add_number (b, "planned_cryogen_L", r->planned_cryogen_L);
-  add_number (b, "cryogen_available_L", r->cryogen_available_L);
-  add_number (b, "probability_within_beam_time", r->probability_within_beam_time);
-  add_number (b, "probability_within_cryogen", r->probability_within_cryogen);
-  add_number (b, "probability_within_both", r->probability_within_both);
+  mp_json_add_number (b, "work_function_eV", r->work_function_eV);
+  mp_json_add_number (b, "work_function_sigma_eV", r->work_function_sigma_eV);
+  mp_json_add_number (b, "planned_beam_time_h", r->planned_beam_time_h);
+  mp_json_add_number (b, "beam_time_available_h", r->beam_time_available_h);
+  mp_json_add_number (b, "planned_cryogen_L", r->planned_cryogen_L);
+  mp_json_add_number (b, "cryogen_available_L", r->cryogen_available_L);
+  mp_json_add_number (b, "probability_within_beam_time", r->probability_within_beam_time);
+  mp_json_add_number (b, "probability_within_cryogen", r->probability_within_cryogen);
+  mp_json_add_number (b, "probability_within_both", r->probability_within_both);
   add_percentiles (b, "beam_time_h_percentiles", r->beam_time_h_percentiles);
   add_percentiles (b, "cryogen_L_percentiles", r->cryogen_L_percentiles);
   json_builder_end_object (b);
@@ -1191,9 +1175,9 @@ mp_rehearsal_to_json (const MpRehearsal *r)
   json_builder_begin_object (b);
   json_builder_set_member_name (b, "plan_title");
   json_builder_add_string_value (b, r->plan_title != NULL ? r->plan_title : "");
-  add_int (b, "seed", (gint64) r->seed);
-  add_int (b, "trials", r->trials);
-  add_number (b, "qe_scale_sigma", r->qe_scale_sigma);
+  mp_json_add_int (b, "seed", (gint64) r->seed);
+  mp_json_add_int (b, "trials", r->trials);
+  mp_json_add_number (b, "qe_scale_sigma", r->qe_scale_sigma);
   json_builder_set_member_name (b, "steps");
   json_builder_begin_array (b);
   for (guint i = 0; i < r->steps->len; i++)

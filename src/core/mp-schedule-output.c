@@ -5,69 +5,39 @@
  * empty field. Both are locale-independent. */
 #include "config.h"
 
+#include "mp-json.h"
 #include "mp-schedule.h"
 
 #include <math.h>
 #include <string.h>
 
 static void
-add_number (JsonBuilder *b, const char *key, double value)
-{
-  json_builder_set_member_name (b, key);
-  if (isfinite (value))
-    json_builder_add_double_value (b, value);
-  else
-    json_builder_add_null_value (b);
-}
-
-static void
-add_int (JsonBuilder *b, const char *key, gint64 value)
-{
-  json_builder_set_member_name (b, key);
-  json_builder_add_int_value (b, value);
-}
-
-static void
-add_bool (JsonBuilder *b, const char *key, gboolean value)
-{
-  json_builder_set_member_name (b, key);
-  json_builder_add_boolean_value (b, value);
-}
-
-static void
-add_string (JsonBuilder *b, const char *key, const char *value)
-{
-  json_builder_set_member_name (b, key);
-  json_builder_add_string_value (b, value != NULL ? value : "");
-}
-
-static void
 add_step (JsonBuilder *b, const MpStep *s, double reserve_L)
 {
   json_builder_begin_object (b);
-  add_int (b, "index", s->index);
-  add_string (b, "kind", mp_step_kind_to_string (s->kind));
-  add_number (b, "wavelength_nm", s->wavelength_nm);
-  add_number (b, "photon_energy_eV", s->photon_energy_eV);
-  add_number (b, "excess_energy_eV", s->excess_energy_eV);
-  add_number (b, "qe", s->qe);
-  add_number (b, "transmission", s->transmission);
-  add_number (b, "optical_density", s->optical_density);
-  add_number (b, "signal_rate_per_s", s->signal_rate_per_s);
-  add_number (b, "mte_meV", s->mte_meV);
-  add_number (b, "target_sigma_meV", s->target_sigma_meV);
-  add_number (b, "required_dwell_s", s->required_dwell_s);
-  add_number (b, "dwell_s", s->dwell_s);
-  add_number (b, "reached_sigma_meV", s->reached_sigma_meV);
-  add_number (b, "start_h", s->start_h);
-  add_number (b, "end_h", s->end_h);
+  mp_json_add_int (b, "index", s->index);
+  mp_json_add_string (b, "kind", mp_step_kind_to_string (s->kind));
+  mp_json_add_number (b, "wavelength_nm", s->wavelength_nm);
+  mp_json_add_number (b, "photon_energy_eV", s->photon_energy_eV);
+  mp_json_add_number (b, "excess_energy_eV", s->excess_energy_eV);
+  mp_json_add_number (b, "qe", s->qe);
+  mp_json_add_number (b, "transmission", s->transmission);
+  mp_json_add_number (b, "optical_density", s->optical_density);
+  mp_json_add_number (b, "signal_rate_per_s", s->signal_rate_per_s);
+  mp_json_add_number (b, "mte_meV", s->mte_meV);
+  mp_json_add_number (b, "target_sigma_meV", s->target_sigma_meV);
+  mp_json_add_number (b, "required_dwell_s", s->required_dwell_s);
+  mp_json_add_number (b, "dwell_s", s->dwell_s);
+  mp_json_add_number (b, "reached_sigma_meV", s->reached_sigma_meV);
+  mp_json_add_number (b, "start_h", s->start_h);
+  mp_json_add_number (b, "end_h", s->end_h);
   /* plan-format.md: litres left above the reserve, so that it counts down
    * to 0 from cryogen_available_L; dewar_level_L is the gauge reading. */
-  add_number (b, "cryogen_left_L", s->cryogen_left_L - reserve_L);
-  add_number (b, "dewar_level_L", s->cryogen_left_L);
-  add_string (b, "status", mp_step_status_to_string (s->status));
-  add_int (b, "priority", s->priority);
-  add_bool (b, "done", s->done);
+  mp_json_add_number (b, "cryogen_left_L", s->cryogen_left_L - reserve_L);
+  mp_json_add_number (b, "dewar_level_L", s->cryogen_left_L);
+  mp_json_add_string (b, "status", mp_step_status_to_string (s->status));
+  mp_json_add_int (b, "priority", s->priority);
+  mp_json_add_bool (b, "done", s->done);
   json_builder_end_object (b);
 }
 
@@ -75,13 +45,13 @@ static void
 add_block (JsonBuilder *b, const MpBlock *block, double reserve_L)
 {
   json_builder_begin_object (b);
-  add_number (b, "temperature_K", block->temperature_K);
-  add_number (b, "start_h", block->start_h);
-  add_number (b, "end_h", block->end_h);
-  add_number (b, "settle_h", block->settle_h);
-  add_number (b, "cryogen_L", block->cryogen_L);
-  add_number (b, "cryogen_start_L", block->cryogen_start_L);
-  add_number (b, "cryogen_end_L", block->cryogen_end_L);
+  mp_json_add_number (b, "temperature_K", block->temperature_K);
+  mp_json_add_number (b, "start_h", block->start_h);
+  mp_json_add_number (b, "end_h", block->end_h);
+  mp_json_add_number (b, "settle_h", block->settle_h);
+  mp_json_add_number (b, "cryogen_L", block->cryogen_L);
+  mp_json_add_number (b, "cryogen_start_L", block->cryogen_start_L);
+  mp_json_add_number (b, "cryogen_end_L", block->cryogen_end_L);
   json_builder_set_member_name (b, "cut_list");
   json_builder_begin_array (b);
   for (guint i = 0; i < block->cut_list->len; i++)
@@ -104,13 +74,13 @@ add_sensitivity (JsonBuilder *b, const char *key, const MpSensitivity *s)
 {
   json_builder_set_member_name (b, key);
   json_builder_begin_object (b);
-  add_number (b, "work_function_eV", s->work_function_eV);
-  add_number (b, "beam_time_h", s->beam_time_h);
-  add_number (b, "cryogen_L", s->cryogen_L);
-  add_int (b, "n_short", s->n_short);
-  add_int (b, "n_unreachable", s->n_unreachable);
-  add_int (b, "n_left_out", s->n_left_out);
-  add_bool (b, "feasible", s->feasible);
+  mp_json_add_number (b, "work_function_eV", s->work_function_eV);
+  mp_json_add_number (b, "beam_time_h", s->beam_time_h);
+  mp_json_add_number (b, "cryogen_L", s->cryogen_L);
+  mp_json_add_int (b, "n_short", s->n_short);
+  mp_json_add_int (b, "n_unreachable", s->n_unreachable);
+  mp_json_add_int (b, "n_left_out", s->n_left_out);
+  mp_json_add_bool (b, "feasible", s->feasible);
   json_builder_end_object (b);
 }
 
@@ -122,19 +92,19 @@ mp_schedule_to_json (const MpSchedule *schedule)
   g_return_val_if_fail (schedule != NULL, NULL);
 
   json_builder_begin_object (b);
-  add_string (b, "plan_title", schedule->plan_title);
-  add_bool (b, "feasible", schedule->feasible);
-  add_string (b, "policy", mp_over_budget_to_string (schedule->policy));
-  add_number (b, "stretch_factor", schedule->stretch_factor);
-  add_number (b, "work_function_eV", schedule->work_function_eV);
-  add_number (b, "effective_work_function_eV", schedule->effective_work_function_eV);
+  mp_json_add_string (b, "plan_title", schedule->plan_title);
+  mp_json_add_bool (b, "feasible", schedule->feasible);
+  mp_json_add_string (b, "policy", mp_over_budget_to_string (schedule->policy));
+  mp_json_add_number (b, "stretch_factor", schedule->stretch_factor);
+  mp_json_add_number (b, "work_function_eV", schedule->work_function_eV);
+  mp_json_add_number (b, "effective_work_function_eV", schedule->effective_work_function_eV);
 
   json_builder_set_member_name (b, "totals");
   json_builder_begin_object (b);
-  add_number (b, "beam_time_h", schedule->beam_time_h);
-  add_number (b, "beam_time_available_h", schedule->beam_time_available_h);
-  add_number (b, "cryogen_L", schedule->cryogen_L);
-  add_number (b, "cryogen_available_L", schedule->cryogen_available_L);
+  mp_json_add_number (b, "beam_time_h", schedule->beam_time_h);
+  mp_json_add_number (b, "beam_time_available_h", schedule->beam_time_available_h);
+  mp_json_add_number (b, "cryogen_L", schedule->cryogen_L);
+  mp_json_add_number (b, "cryogen_available_L", schedule->cryogen_available_L);
   json_builder_end_object (b);
 
   json_builder_set_member_name (b, "blocks");
@@ -150,10 +120,10 @@ mp_schedule_to_json (const MpSchedule *schedule)
       const MpLeftOut *lo = &g_array_index (schedule->left_out, MpLeftOut, i);
 
       json_builder_begin_object (b);
-      add_number (b, "temperature_K", lo->temperature_K);
-      add_number (b, "photon_energy_eV", lo->photon_energy_eV);
-      add_number (b, "wavelength_nm", lo->wavelength_nm);
-      add_string (b, "reason", lo->reason_c != NULL ? lo->reason_c : lo->reason);
+      mp_json_add_number (b, "temperature_K", lo->temperature_K);
+      mp_json_add_number (b, "photon_energy_eV", lo->photon_energy_eV);
+      mp_json_add_number (b, "wavelength_nm", lo->wavelength_nm);
+      mp_json_add_string (b, "reason", lo->reason_c != NULL ? lo->reason_c : lo->reason);
       json_builder_end_object (b);
     }
   json_builder_end_array (b);
