@@ -6,6 +6,7 @@
 #include "mp-constants.h"
 #include "mp-physics.h"
 
+#include <gsl/gsl_integration.h>
 #include <math.h>
 
 #define assert_rel(a, b, rel) \
@@ -262,6 +263,58 @@ test_bandwidth (void)
               1e-9);
 }
 
+typedef struct
+{
+  double excess_eV, temperature_K, bandwidth_eV, log_scale;
+  gboolean first_moment;
+} LineIntegrand;
+
+static double
+line_integrand (double u, void *data)
+{
+  const LineIntegrand *p = data;
+  MpEmission em;
+  double v;
+
+  mp_emission_monochromatic (p->excess_eV + p->bandwidth_eV * u, p->temperature_K, &em);
+  v = exp (em.log_yield - p->log_scale - 0.5 * u * u) / sqrt (2.0 * M_PI);
+  return p->first_moment ? v * em.mte_eV : v;
+}
+
+static void
+test_bandwidth_against_adaptive (void)
+{
+  /* The line average is defined in physics.md ("Laser bandwidth") as the
+   * Gaussian average of Y and Y<eps>. Reference: the same integral done
+   * adaptively (GSL QAGP, breakpoint at threshold, 1e-10 relative), for
+   * lines narrow and wide against kT, from 4 K (helium) to 295 K. */
+  static const double temps[] = { 4, 8, 20, 40, 77, 295 };
+  static const double widths[] = { 0.003, 0.006, 0.012 };
+  gsl_integration_workspace *w = gsl_integration_workspace_alloc (2000);
+
+  for (gsize t = 0; t < G_N_ELEMENTS (temps); t++)
+    for (gsize k = 0; k < G_N_ELEMENTS (widths); k++)
+      for (double dE = -0.06; dE <= 0.3; dE += 0.0137)
+        {
+          MpEmission avg;
+          LineIntegrand p;
+          gsl_function f = { line_integrand, &p };
+          double pts[3], y, ym, err;
+
+          mp_emission_averaged (dE, temps[t], widths[k], &avg);
+          p = (LineIntegrand) { dE, temps[t], widths[k], avg.log_yield, FALSE };
+          pts[0] = -40.0;
+          pts[1] = CLAMP (-dE / widths[k], -39.0, 79.0);
+          pts[2] = 80.0;
+          gsl_integration_qagp (&f, pts, 3, 0.0, 1e-10, 2000, w, &y, &err);
+          p.first_moment = TRUE;
+          gsl_integration_qagp (&f, pts, 3, 0.0, 1e-10, 2000, w, &ym, &err);
+          g_assert_cmpfloat_with_epsilon (log (y), 0.0, 1e-6);
+          g_assert_cmpfloat_with_epsilon (ym / y / avg.mte_eV, 1.0, 1e-6);
+        }
+  gsl_integration_workspace_free (w);
+}
+
 int
 main (int argc, char **argv)
 {
@@ -284,5 +337,6 @@ main (int argc, char **argv)
   g_test_add_func ("/physics/properties", test_properties);
   g_test_add_func ("/physics/robust", test_robust);
   g_test_add_func ("/physics/bandwidth", test_bandwidth);
+  g_test_add_func ("/physics/bandwidth/adaptive", test_bandwidth_against_adaptive);
   return g_test_run ();
 }

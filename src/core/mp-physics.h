@@ -46,11 +46,13 @@ void mp_emission_averaged (double excess_eV,
                            MpEmission *out);
 
 /* The quadrature over the Gaussian laser line that mp_emission_averaged
- * uses: the excess energy of each node and the natural log of its weight
- * (the weights sum to 1). Fills at most MP_LINE_NODES of each; returns the
- * count. Samplers draw from the same nodes so that they match the model. */
-#define MP_LINE_NODES 48
+ * uses (its rule depends on the line width against kT): the excess energy
+ * of each node and the natural log of its weight (the weights sum to 1 to
+ * within the line's cut-off). Fills at most MP_LINE_NODES of each; returns
+ * the count. Samplers draw from the same nodes so that they match. */
+#define MP_LINE_NODES 448
 int mp_line_quadrature (double excess_eV,
+                        double temperature_K,
                         double bandwidth_eV,
                         double *node_excess_eV,
                         double *log_weight);

@@ -180,7 +180,7 @@ mp_energy_sampler_init (MpEnergySampler *sampler,
     }
 
   /* The model's own line quadrature (mp_emission_averaged). */
-  n_line = mp_line_quadrature (excess_eV, bandwidth_eV, excess, log_w);
+  n_line = mp_line_quadrature (excess_eV, temperature_K, bandwidth_eV, excess, log_w);
   for (int i = 0; i < n_line; i++)
     {
       MpEmission em;
