@@ -9,7 +9,7 @@ MTEPLAN_DEB_PACKAGES=(
   libcairo2-dev libpango1.0-dev
   xvfb xauth poppler-utils desktop-file-utils appstream
   yelp-tools itstool fonts-dejavu-core dbus-x11 at-spi2-core
-  locales valgrind
+  locales valgrind groff-base libxml2-utils
 )
 
 mteplan_install_deps() {
