@@ -203,9 +203,9 @@ static const FieldDesc block_fields[] = {
 };
 
 static const FieldDesc range_fields[] = {
-  { "laser.ranges[%d].label", N_("Range _name"), NULL, N_("Name of the tuning range"),
+  { "laser.tuning_ranges[%d].label", N_("Range _name"), NULL, N_("Name of the tuning range"),
     SCOPE_RANGE, TYPE_OPT_STRING, G_STRUCT_OFFSET (MpTuningRange, label) },
-  { "laser.ranges[%d].switch_s", N_("Switc_h time"), "s", N_("Time to switch into this range"),
+  { "laser.tuning_ranges[%d].switch_s", N_("Switc_h time"), "s", N_("Time to switch into this range"),
     SCOPE_RANGE, TYPE_DOUBLE, G_STRUCT_OFFSET (MpTuningRange, switch_s) },
   { NULL }
 };
