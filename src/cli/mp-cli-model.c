@@ -131,21 +131,38 @@ build_model_json (const ModelInput *in, double phi_eff, const MpEmission *em)
   return json_builder_get_root (b);
 }
 
+/* Pads by characters, not bytes, so translated labels line up too. */
+static void
+print_row (const char *label, const char *format, ...) G_GNUC_PRINTF (2, 3);
+
+static void
+print_row (const char *label, const char *format, ...)
+{
+  va_list args;
+  glong pad = 32 - g_utf8_strlen (label, -1);
+
+  fputs (label, stdout);
+  for (glong i = 0; i <= pad; i++)
+    fputc (' ', stdout);
+  va_start (args, format);
+  vprintf (format, args);
+  va_end (args);
+  fputc ('\n', stdout);
+}
+
 static void
 print_model_table (const ModelInput *in, double phi_eff, const MpEmission *em)
 {
-  printf ("%-28s %14.6f eV\n", _("Work function"), in->work_function_eV);
-  printf ("%-28s %14.6f eV\n", _("Field-lowered work function"), phi_eff);
-  printf ("%-28s %14.6f eV\n", _("Photon energy"), in->photon_energy_eV);
-  printf ("%-28s %14.4f nm\n", _("Wavelength"),
-          mp_wavelength_nm_from_photon_energy_eV (in->photon_energy_eV));
-  printf ("%-28s %14.6f eV\n", _("Excess energy"), in->photon_energy_eV - phi_eff);
-  printf ("%-28s %14.4f meV\n", _("Thermal energy kT"),
-          1e3 * mp_thermal_energy_eV (in->temperature_K));
-  printf ("%-28s %14.6g eV²\n", _("Yield (Fowler-DuBridge)"), mp_yield_eV2 (em));
-  printf ("%-28s %14.6f\n", _("ln yield"), em->log_yield);
-  printf ("%-28s %14.4f meV\n", _("MTE"), 1e3 * em->mte_eV);
-  printf ("%-28s %14.4f meV²\n", _("Second moment <ε²>"), 1e6 * em->eps2_eV2);
+  print_row (_("Work function"), "%14.6f eV", in->work_function_eV);
+  print_row (_("Field-lowered work function"), "%14.6f eV", phi_eff);
+  print_row (_("Photon energy"), "%14.6f eV", in->photon_energy_eV);
+  print_row (_("Wavelength"), "%14.4f nm", mp_wavelength_nm_from_photon_energy_eV (in->photon_energy_eV));
+  print_row (_("Excess energy"), "%14.6f eV", in->photon_energy_eV - phi_eff);
+  print_row (_("Thermal energy kT"), "%14.4f meV", 1e3 * mp_thermal_energy_eV (in->temperature_K));
+  print_row (_("Yield (Fowler-DuBridge)"), "%14.6g eV²", mp_yield_eV2 (em));
+  print_row (_("ln yield"), "%14.6f", em->log_yield);
+  print_row (_("MTE"), "%14.4f meV", 1e3 * em->mte_eV);
+  print_row (_("Second moment <ε²>"), "%14.4f meV²", 1e6 * em->eps2_eV2);
 }
 
 int
