@@ -15,40 +15,16 @@
 #include "mp-physics.h"
 #include "mp-refit-dialog.h"
 #include "mp-window.h"
+#include "mp-ui-test.h"
 
 #define DEMO MP_SOURCE_DIR "/data/examples/cold-copper-shift.mteplan"
 #define DATA MP_SOURCE_DIR "/tests/data/measured/cold-copper-first-points.csv"
 #define BAD MP_SOURCE_DIR "/tests/data/bad/measured-qe-text.csv"
-#define WAIT_LIMIT_S 60
-
-static void
-wait_for_fit (MpRefitDialog *dialog)
-{
-  gint64 end = g_get_monotonic_time () + WAIT_LIMIT_S * G_USEC_PER_SEC;
-
-  while (mp_refit_dialog_get_busy (dialog))
-    {
-      if (g_get_monotonic_time () > end)
-        g_error ("no fit landed within %d s", WAIT_LIMIT_S);
-      if (!g_main_context_iteration (NULL, FALSE))
-        g_usleep (2000);
-    }
-}
-
-static MpWindow *
-open_demo (void)
-{
-  MpWindow *window = mp_window_new (NULL);
-  g_autoptr (GFile) file = g_file_new_for_path (DEMO);
-
-  g_assert_true (mp_window_open_file (window, file));
-  return window;
-}
 
 static void
 test_action_enabled (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
 
   g_assert_true (g_action_group_get_action_enabled (G_ACTION_GROUP (window), "import-measured"));
   gtk_window_destroy (GTK_WINDOW (window));
@@ -57,7 +33,7 @@ test_action_enabled (void)
 static void
 test_fit_and_accept (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   MpRefitDialog *dialog = mp_refit_dialog_new (GTK_WINDOW (window), doc);
   g_autoptr (GFile) file = g_file_new_for_path (DATA);
@@ -66,7 +42,7 @@ test_fit_and_accept (void)
 
   mp_refit_dialog_load_file (dialog, file);
   g_assert_true (mp_refit_dialog_get_busy (dialog));
-  wait_for_fit (dialog);
+  mp_ui_test_wait_for_fit (dialog);
   fit = mp_refit_dialog_get_result (dialog);
   g_assert_nonnull (fit);
   g_assert_null (mp_refit_dialog_get_error (dialog));
@@ -90,7 +66,7 @@ test_fit_and_accept (void)
 static void
 test_bad_file (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   MpRefitDialog *dialog = mp_refit_dialog_new (GTK_WINDOW (window), doc);
   g_autoptr (GFile) file = g_file_new_for_path (BAD);
@@ -98,7 +74,7 @@ test_bad_file (void)
   g_autofree char *after = NULL;
 
   mp_refit_dialog_load_file (dialog, file);
-  wait_for_fit (dialog);
+  mp_ui_test_wait_for_fit (dialog);
   g_assert_null (mp_refit_dialog_get_result (dialog));
   g_assert_nonnull (mp_refit_dialog_get_error (dialog));
   g_assert_nonnull (strstr (mp_refit_dialog_get_error (dialog),
@@ -113,7 +89,7 @@ test_bad_file (void)
 static void
 test_plot_renders (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpRefitDialog *dialog = mp_refit_dialog_new (GTK_WINDOW (window), mp_window_get_document (window));
   g_autoptr (GFile) file = g_file_new_for_path (DATA);
   cairo_surface_t *surface = cairo_image_surface_create (CAIRO_FORMAT_RGB24, 640, 480);
@@ -123,7 +99,7 @@ test_plot_renders (void)
   int stride, dark = 0;
 
   mp_refit_dialog_load_file (dialog, file);
-  wait_for_fit (dialog);
+  mp_ui_test_wait_for_fit (dialog);
   g_assert_nonnull (mp_refit_dialog_get_result (dialog));
   cairo_set_source_rgb (cr, 1, 1, 1);
   cairo_paint (cr);
@@ -148,17 +124,7 @@ test_plot_renders (void)
 int
 main (int argc, char *argv[])
 {
-  g_autofree char *tmp = g_dir_make_tmp ("mteplan-test-refit-XXXXXX", NULL);
-  g_autofree char *state_dir = g_build_filename (tmp, "state", NULL);
-
-  g_mkdir_with_parents (state_dir, 0700);
-  g_setenv ("XDG_STATE_HOME", state_dir, TRUE);
-  g_setenv ("GSETTINGS_BACKEND", "memory", TRUE);
-  g_setenv ("GSK_RENDERER", "cairo", TRUE);
-  g_setenv ("NO_AT_BRIDGE", "1", TRUE);
-
-  gtk_test_init (&argc, &argv, NULL);
-  mp_core_init ();
+  g_autofree char *state_dir = mp_ui_test_init (&argc, &argv, "test-refit");
 
   if (!g_file_test (DEMO, G_FILE_TEST_EXISTS))
     {

@@ -11,23 +11,10 @@
 #include "mp-physics.h"
 #include "mp-rehearse-dialog.h"
 #include "mp-window.h"
+#include "mp-ui-test.h"
 
 #define DEMO MP_SOURCE_DIR "/data/examples/cold-copper-shift.mteplan"
 #define WAIT_LIMIT_S 120
-
-static void
-wait_until_schedule (MpDocument *doc)
-{
-  gint64 end = g_get_monotonic_time () + WAIT_LIMIT_S * G_USEC_PER_SEC;
-
-  while (mp_document_get_schedule (doc) == NULL || mp_document_get_busy (doc))
-    {
-      if (g_get_monotonic_time () > end)
-        g_error ("no schedule landed within %d s", WAIT_LIMIT_S);
-      if (!g_main_context_iteration (NULL, FALSE))
-        g_usleep (2000);
-    }
-}
 
 /* Iterates the main loop until the rehearsal stops; counts the main-loop
  * iterations meanwhile (the window must keep running). */
@@ -46,17 +33,6 @@ wait_until_stopped (MpRehearseDialog *dialog)
       iterations++;
     }
   return iterations;
-}
-
-static MpWindow *
-open_demo (void)
-{
-  MpWindow *window = mp_window_new (NULL);
-  g_autoptr (GFile) file = g_file_new_for_path (DEMO);
-
-  g_assert_true (mp_window_open_file (window, file));
-  wait_until_schedule (mp_window_get_document (window));
-  return window;
 }
 
 /* The nth widget of a type inside root, depth first. */
@@ -99,7 +75,7 @@ test_action_enabled (void)
 static void
 test_run_matches_core (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   MpRehearseDialog *dialog = mp_rehearse_dialog_new (GTK_WINDOW (window), doc);
   g_autoptr (MpRehearsal) direct = NULL;
@@ -140,7 +116,7 @@ test_run_matches_core (void)
 static void
 test_cancel_and_close (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   MpRehearseDialog *dialog = mp_rehearse_dialog_new (GTK_WINDOW (window), doc);
   GtkSpinButton *trials = find_spin (GTK_WIDGET (dialog), 0);
@@ -177,17 +153,7 @@ test_cancel_and_close (void)
 int
 main (int argc, char *argv[])
 {
-  g_setenv ("GSETTINGS_BACKEND", "memory", TRUE);
-  g_setenv ("GSK_RENDERER", "cairo", TRUE);
-  g_setenv ("NO_AT_BRIDGE", "1", TRUE);
-  {
-    g_autofree char *tmp = g_dir_make_tmp ("mteplan-test-rehearse-dialog-XXXXXX", NULL);
-
-    g_setenv ("XDG_STATE_HOME", tmp, TRUE);
-  }
-
-  gtk_test_init (&argc, &argv, NULL);
-  mp_core_init ();
+  g_autofree char *state_dir = mp_ui_test_init (&argc, &argv, "test-rehearse-dialog");
 
   if (!g_file_test (DEMO, G_FILE_TEST_EXISTS))
     {

@@ -23,52 +23,10 @@
 #include "mp-schedule-view.h"
 #include "mp-step-item.h"
 #include "mp-window.h"
+#include "mp-ui-test.h"
 
 #define DEMO MP_SOURCE_DIR "/data/examples/cold-copper-shift.mteplan"
 #define DATA MP_SOURCE_DIR "/tests/data/measured/cold-copper-first-points.csv"
-#define WAIT_LIMIT_S 60
-
-static void
-wait_for_schedule (MpDocument *doc, guint after)
-{
-  gint64 end = g_get_monotonic_time () + WAIT_LIMIT_S * G_USEC_PER_SEC;
-
-  while (mp_document_get_schedule_serial (doc) <= after || mp_document_get_busy (doc))
-    {
-      if (g_get_monotonic_time () > end)
-        g_error ("no schedule landed within %d s", WAIT_LIMIT_S);
-      if (!g_main_context_iteration (NULL, FALSE))
-        g_usleep (2000);
-    }
-}
-
-static void
-wait_for_fit (MpRefitDialog *dialog)
-{
-  gint64 end = g_get_monotonic_time () + WAIT_LIMIT_S * G_USEC_PER_SEC;
-
-  while (mp_refit_dialog_get_busy (dialog))
-    {
-      if (g_get_monotonic_time () > end)
-        g_error ("no fit landed within %d s", WAIT_LIMIT_S);
-      if (!g_main_context_iteration (NULL, FALSE))
-        g_usleep (2000);
-    }
-}
-
-static MpWindow *
-open_demo (void)
-{
-  MpWindow *window = mp_window_new (NULL);
-  g_autoptr (GFile) file = g_file_new_for_path (DEMO);
-  MpDocument *doc = mp_window_get_document (window);
-  guint serial = mp_document_get_schedule_serial (doc);
-
-  g_assert_true (mp_window_open_file (window, file));
-  wait_for_schedule (doc, serial);
-  g_assert_nonnull (mp_document_get_schedule (doc));
-  return window;
-}
 
 static int
 count_done (const MpSchedule *schedule)
@@ -124,7 +82,7 @@ first_pending_start_h (const MpSchedule *schedule)
 static void
 test_set_and_clear (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   g_autoptr (GError) error = NULL;
   g_autoptr (MpMeasuredData) data = mp_measured_load_from_file (DATA, &error);
@@ -154,7 +112,7 @@ test_set_and_clear (void)
   g_assert_no_error (error);
   g_assert_true (mp_document_get_has_measured (doc));
   g_assert_true (g_action_group_get_action_enabled (G_ACTION_GROUP (window), "clear-measured"));
-  wait_for_schedule (doc, serial);
+  mp_ui_test_wait_for_schedule (doc, serial);
   schedule = mp_document_get_schedule (doc);
   g_assert_nonnull (schedule);
 
@@ -221,7 +179,7 @@ test_set_and_clear (void)
    * spend (the plan's reserve stays). */
   serial = mp_document_get_schedule_serial (doc);
   g_assert_true (mp_document_set_measured (doc, data, 1.0, 20.0, &error));
-  wait_for_schedule (doc, serial);
+  mp_ui_test_wait_for_schedule (doc, serial);
   schedule = mp_document_get_schedule (doc);
   g_assert_cmpfloat (fabs (schedule->cryogen_available_L
                            - (20.0 - mp_document_get_plan (doc)->cryostat.reserve_L)), <, 1e-9);
@@ -231,7 +189,7 @@ test_set_and_clear (void)
   serial = mp_document_get_schedule_serial (doc);
   g_action_group_activate_action (G_ACTION_GROUP (window), "clear-measured", NULL);
   g_assert_false (mp_document_get_has_measured (doc));
-  wait_for_schedule (doc, serial);
+  mp_ui_test_wait_for_schedule (doc, serial);
   g_assert_cmpint (count_done (mp_document_get_schedule (doc)), ==, 0);
   g_assert_cmpint (count_done_rows (window), ==, 0);
   g_assert_null (strstr (mp_window_get_status_text (window), "done"));
@@ -245,7 +203,7 @@ test_set_and_clear (void)
 static void
 test_forgotten_on_open (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   g_autoptr (MpMeasuredData) data = mp_measured_load_from_file (DATA, NULL);
   g_autoptr (GFile) file = g_file_new_for_path (DEMO);
@@ -256,7 +214,7 @@ test_forgotten_on_open (void)
   serial = mp_document_get_schedule_serial (doc);
   g_assert_true (mp_window_open_file (window, file));
   g_assert_false (mp_document_get_has_measured (doc));
-  wait_for_schedule (doc, serial);
+  mp_ui_test_wait_for_schedule (doc, serial);
   g_assert_cmpint (count_done (mp_document_get_schedule (doc)), ==, 0);
   gtk_window_destroy (GTK_WINDOW (window));
 }
@@ -265,7 +223,7 @@ test_forgotten_on_open (void)
 static void
 test_refit_accept (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   MpRefitDialog *dialog = mp_refit_dialog_new (GTK_WINDOW (window), doc);
   g_autoptr (GFile) file = g_file_new_for_path (DATA);
@@ -278,7 +236,7 @@ test_refit_accept (void)
   g_assert_nonnull (elapsed);
   g_assert_nonnull (cryogen);
   mp_refit_dialog_load_file (dialog, file);
-  wait_for_fit (dialog);
+  mp_ui_test_wait_for_fit (dialog);
   g_assert_nonnull (mp_refit_dialog_get_result (dialog));
 
   /* Refused: the message names the field, nothing changes. */
@@ -302,7 +260,7 @@ test_refit_accept (void)
   g_assert_true (mp_document_get_has_measured (doc));
   g_assert_cmpfloat (mp_document_get_elapsed_h (doc), ==, 4.5);
   g_assert_true (isnan (mp_document_get_cryogen_left_L (doc)));
-  wait_for_schedule (doc, serial);
+  mp_ui_test_wait_for_schedule (doc, serial);
   g_assert_cmpint (count_done (mp_document_get_schedule (doc)), >, 0);
   g_assert_cmpfloat (first_pending_start_h (mp_document_get_schedule (doc)), >=, 4.5 - 1e-9);
 
@@ -313,7 +271,7 @@ test_refit_accept (void)
   after = mp_plan_checksum (mp_document_get_plan (doc));
   g_assert_cmpstr (before, ==, after);
   g_assert_true (mp_document_get_has_measured (doc));
-  wait_for_schedule (doc, serial);
+  mp_ui_test_wait_for_schedule (doc, serial);
   g_assert_cmpint (count_done (mp_document_get_schedule (doc)), >, 0);
 
   gtk_window_destroy (GTK_WINDOW (dialog));
@@ -323,17 +281,7 @@ test_refit_accept (void)
 int
 main (int argc, char *argv[])
 {
-  g_autofree char *tmp = g_dir_make_tmp ("mteplan-test-replan-XXXXXX", NULL);
-  g_autofree char *state_dir = g_build_filename (tmp, "state", NULL);
-
-  g_mkdir_with_parents (state_dir, 0700);
-  g_setenv ("XDG_STATE_HOME", state_dir, TRUE);
-  g_setenv ("GSETTINGS_BACKEND", "memory", TRUE);
-  g_setenv ("GSK_RENDERER", "cairo", TRUE);
-  g_setenv ("NO_AT_BRIDGE", "1", TRUE);
-
-  gtk_test_init (&argc, &argv, NULL);
-  mp_core_init ();
+  g_autofree char *state_dir = mp_ui_test_init (&argc, &argv, "test-replan");
 
   if (!g_file_test (DEMO, G_FILE_TEST_EXISTS))
     {

@@ -16,42 +16,12 @@
 #include "mp-schedule-view.h"
 #include "mp-sheet.h"
 #include "mp-window.h"
+#include "mp-ui-test.h"
 
 #define DEMO MP_SOURCE_DIR "/data/examples/cold-copper-shift.mteplan"
 #define WAIT_LIMIT_S 30
 
 static char *state_dir;
-
-/* Iterates the main context until a schedule newer than `after` has landed
- * and nothing is pending (bounded: fails after WAIT_LIMIT_S). */
-static void
-wait_for_schedule (MpDocument *doc, guint after)
-{
-  gint64 end = g_get_monotonic_time () + WAIT_LIMIT_S * G_USEC_PER_SEC;
-
-  while (mp_document_get_schedule_serial (doc) <= after || mp_document_get_busy (doc))
-    {
-      if (g_get_monotonic_time () > end)
-        g_error ("no schedule landed within %d s", WAIT_LIMIT_S);
-      if (!g_main_context_iteration (NULL, FALSE))
-        g_usleep (2000);
-    }
-}
-
-static MpWindow *
-open_demo (void)
-{
-  MpWindow *window = mp_window_new (NULL);
-  g_autoptr (GFile) file = g_file_new_for_path (DEMO);
-  MpDocument *doc = mp_window_get_document (window);
-  guint serial = mp_document_get_schedule_serial (doc);
-
-  g_assert_true (mp_window_open_file (window, file));
-  g_assert_null (mp_window_get_error_text (window));
-  wait_for_schedule (doc, serial);
-  g_assert_nonnull (mp_document_get_schedule (doc));
-  return window;
-}
 
 static GtkEditable *
 beam_time_entry (MpWindow *window)
@@ -73,7 +43,7 @@ n_rows (MpWindow *window)
 static void
 test_demo_replans (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   g_autofree char *status_before = g_strdup (mp_window_get_status_text (window));
   guint rows_before = n_rows (window);
@@ -87,7 +57,7 @@ test_demo_replans (void)
   /* Typing a shorter beam time re-plans: fewer steps fit into 1 h. */
   gtk_editable_set_text (beam_time_entry (window), "1");
   g_assert_cmpfloat (mp_document_get_plan (doc)->beam_time_h, ==, 1.0);
-  wait_for_schedule (doc, serial);
+  mp_ui_test_wait_for_schedule (doc, serial);
   g_assert_cmpfloat (mp_document_get_schedule (doc)->beam_time_available_h, ==, 1.0);
   g_assert_cmpfloat (mp_document_get_schedule (doc)->beam_time_h, <=, 1.0 + 1e-9);
   g_assert_nonnull (strstr (mp_window_get_status_text (window), "of 1.0 h"));
@@ -101,7 +71,7 @@ test_demo_replans (void)
 static void
 test_refused_value (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   MpPlanEditor *editor = MP_PLAN_EDITOR (mp_window_get_editor (window));
   g_autofree char *before = mp_plan_checksum (mp_document_get_plan (doc));
@@ -156,7 +126,7 @@ check_bad_file (MpWindow *window, const char *path)
 static void
 test_bad_file (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   g_autofree char *bad = g_build_filename (state_dir, "broken.mteplan", NULL);
   g_autofree char *bad_dir = g_test_build_filename (G_TEST_DIST, "data", "bad", NULL);
   g_autoptr (GDir) dir = g_dir_open (bad_dir, 0, NULL);
@@ -184,7 +154,7 @@ test_bad_file (void)
 static void
 test_undo_redo (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   GtkEditable *entry = beam_time_entry (window);
 
@@ -210,7 +180,7 @@ test_undo_redo (void)
 static void
 test_modified_state (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   g_autofree char *copy = g_build_filename (state_dir, "saved.mteplan", NULL);
   g_autoptr (GError) error = NULL;
@@ -273,7 +243,7 @@ find_button (GtkWidget *widget, const char *label)
 static void
 test_temperature_blocks (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   MpPlanEditor *editor = MP_PLAN_EDITOR (mp_window_get_editor (window));
   guint n = mp_document_get_plan (doc)->temperatures->len;
@@ -324,7 +294,7 @@ count_substrings (const char *haystack, gsize length, const char *needle)
 static void
 test_export_and_print (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   const MpSchedule *schedule = mp_document_get_schedule (doc);
   g_autofree char *csv_path = g_build_filename (state_dir, "out.csv", NULL);
@@ -385,7 +355,7 @@ find_dialog (MpWindow *window)
 static void
 test_close_prompt (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   GtkWindow *dialog;
   gpointer weak = window;
 
@@ -417,7 +387,7 @@ test_close_prompt (void)
 static void
 test_recovery (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   MpDocument *doc = mp_window_get_document (window);
   g_autofree char *dir = mp_autosave_dir ();
   g_autofree char *kept = g_build_filename (dir, "autosave-1-1.mteplan", NULL);
@@ -480,7 +450,7 @@ count_colours (GdkTexture *texture, int x0, int y0, int w, int h)
 static void
 test_renders_without_gpu (void)
 {
-  MpWindow *window = open_demo ();
+  MpWindow *window = mp_ui_test_open_demo ();
   g_autoptr (GskRenderer) renderer = gsk_cairo_renderer_new ();
   g_autoptr (GdkPaintable) paintable = NULL;
   g_autoptr (GtkSnapshot) snapshot = gtk_snapshot_new ();
@@ -517,18 +487,7 @@ test_renders_without_gpu (void)
 int
 main (int argc, char *argv[])
 {
-  g_autofree char *tmp = g_dir_make_tmp ("mteplan-test-window-XXXXXX", NULL);
-
-  /* Autosaves go to a private state directory; no settings are kept. */
-  state_dir = g_build_filename (tmp, "state", NULL);
-  g_mkdir_with_parents (state_dir, 0700);
-  g_setenv ("XDG_STATE_HOME", state_dir, TRUE);
-  g_setenv ("GSETTINGS_BACKEND", "memory", TRUE);
-  g_setenv ("GSK_RENDERER", "cairo", TRUE);
-  g_setenv ("NO_AT_BRIDGE", "1", TRUE);
-
-  gtk_test_init (&argc, &argv, NULL);
-  mp_core_init ();
+  state_dir = mp_ui_test_init (&argc, &argv, "test-window");
 
   if (!g_file_test (DEMO, G_FILE_TEST_EXISTS))
     {
