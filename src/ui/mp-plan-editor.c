@@ -683,10 +683,25 @@ build_scan_page (MpPlanEditor *self)
 
 /* ---- Temperature blocks --------------------------------------------- */
 
+/* Commits a table edit (a row added, removed or moved) and shows the
+ * core's reason under the table when it refuses. */
+static void
+commit_table_edit (MpPlanEditor *self, MpPlan *candidate, GtkWidget *error_label)
+{
+  g_autofree char *message = NULL;
+
+  if (!try_commit (self, candidate, NULL, &message))
+    show_table_error (error_label, message);
+  else
+    {
+      show_table_error (error_label, NULL);
+      rebuild_rows (self);
+    }
+}
+
 static void
 block_op (MpPlanEditor *self, int row, int op)
 {
-  g_autofree char *message = NULL;
   MpPlan *candidate = mp_document_dup_plan (self->document);
   GArray *blocks = candidate->temperatures;
 
@@ -704,13 +719,7 @@ block_op (MpPlanEditor *self, int row, int op)
       mp_plan_free (candidate);
       return;
     }
-  if (!try_commit (self, candidate, NULL, &message))
-    show_table_error (self->blocks_error, message);
-  else
-    {
-      show_table_error (self->blocks_error, NULL);
-      rebuild_rows (self);
-    }
+  commit_table_edit (self, candidate, self->blocks_error);
 }
 
 static void
@@ -735,7 +744,6 @@ static void
 block_add_cb (GtkButton *button, gpointer user_data)
 {
   MpPlanEditor *self = MP_PLAN_EDITOR (user_data);
-  g_autofree char *message = NULL;
   MpPlan *candidate = mp_document_dup_plan (self->document);
   MpTemperatureBlock block = { 295, 10, 0, 0 };
 
@@ -744,13 +752,7 @@ block_add_cb (GtkButton *button, gpointer user_data)
     block = g_array_index (candidate->temperatures, MpTemperatureBlock,
                            candidate->temperatures->len - 1);
   g_array_append_val (candidate->temperatures, block);
-  if (!try_commit (self, candidate, NULL, &message))
-    show_table_error (self->blocks_error, message);
-  else
-    {
-      show_table_error (self->blocks_error, NULL);
-      rebuild_rows (self);
-    }
+  commit_table_edit (self, candidate, self->blocks_error);
 }
 
 static void
@@ -890,20 +892,6 @@ build_cryostat_page (MpPlanEditor *self)
 /* ---- Laser tuning ranges and points --------------------------------- */
 
 static void
-points_commit (MpPlanEditor *self, MpPlan *candidate)
-{
-  g_autofree char *message = NULL;
-
-  if (!try_commit (self, candidate, NULL, &message))
-    show_table_error (self->points_error, message);
-  else
-    {
-      show_table_error (self->points_error, NULL);
-      rebuild_rows (self);
-    }
-}
-
-static void
 point_remove_cb (GtkButton *button, gpointer user_data)
 {
   MpPlanEditor *self = MP_PLAN_EDITOR (user_data);
@@ -918,7 +906,7 @@ point_remove_cb (GtkButton *button, gpointer user_data)
     }
   g_array_remove_index (range->points, row);
   g_clear_pointer (&range->csv_path, g_free);
-  points_commit (self, candidate);
+  commit_table_edit (self, candidate, self->points_error);
 }
 
 static void
@@ -942,7 +930,7 @@ point_add_cb (GtkButton *button, gpointer user_data)
     }
   g_array_append_val (range->points, point);
   g_clear_pointer (&range->csv_path, g_free);
-  points_commit (self, candidate);
+  commit_table_edit (self, candidate, self->points_error);
 }
 
 static void
@@ -980,7 +968,7 @@ import_response_cb (GtkNativeDialog *dialog, int response, gpointer user_data)
   g_array_append_vals (range->points, points->data, points->len);
   /* The points now live in the plan itself. */
   g_clear_pointer (&range->csv_path, g_free);
-  points_commit (self, candidate);
+  commit_table_edit (self, candidate, self->points_error);
 
 out:
   g_clear_object (&self->chooser);
@@ -1040,7 +1028,7 @@ range_add_cb (GtkButton *button, gpointer user_data)
   g_array_append_val (range->points, b);
   g_ptr_array_add (candidate->laser.ranges, range);
   self->range_index = candidate->laser.ranges->len - 1;
-  points_commit (self, candidate);
+  commit_table_edit (self, candidate, self->points_error);
 }
 
 static void
@@ -1056,7 +1044,7 @@ range_remove_cb (GtkButton *button, gpointer user_data)
     }
   g_ptr_array_remove_index (candidate->laser.ranges, self->range_index);
   self->range_index = MAX (0, self->range_index - 1);
-  points_commit (self, candidate);
+  commit_table_edit (self, candidate, self->points_error);
 }
 
 static void
